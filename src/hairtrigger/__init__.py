@@ -1,0 +1,17 @@
+"""hairtrigger: design and analyse covalent-modification switches.
+
+The public API re-exported here is stable; see DEVELOPERS.md for the layout. Importing this
+package loads numpy and scipy only; the widget layer lives in `hairtrigger.widgets`.
+"""
+
+from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "CYCLE_KEYS",
+    "Cycle",
+    "__version__",
+    "evaluate",
+    "steepness_map",
+]

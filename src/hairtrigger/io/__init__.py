@@ -1,0 +1,1 @@
+"""Files in and out: snapshots (JSON), data import, SBML export, static reports."""
