@@ -116,7 +116,10 @@ def inverse_state(
         a_ok = np.where(reachable, a, np.nan)
         # r − 1 = (B·M1 − A·M2) / (A·(M2 + B)), exact for both models.
         ratio_m1 = (b * m1 - a_ok * m2) / (a_ok * (m2 + b))
-        log_ratio = np.log1p(ratio_m1)
+        # log1p keeps ln r accurate near r = 1 (steep switches, pitfall 4); far from 1 the
+        # direct logarithms are the accurate ones (log1p(r − 1) fails as r → 0).
+        direct = np.log(b) + np.log(m1 + a_ok) - np.log(a_ok) - np.log(m2 + b)
+        log_ratio = np.where(np.abs(ratio_m1) < 0.5, np.log1p(ratio_m1), direct)
         if model == "quasi_steady":
             kinase_total = np.exp(log_ratio) * v2 / kc1
         else:
