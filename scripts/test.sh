@@ -21,5 +21,5 @@ echo "== unit, reference, property, command-line, widget and browser tests"
 .venv/bin/python -m pytest "$@"
 if compgen -G "notebooks/*.ipynb" >/dev/null; then
   echo "== notebooks (executed under nbval)"
-  .venv/bin/python -m pytest --nbval-lax -p no:randomly notebooks
+  .venv/bin/python -m pytest --nbval-lax notebooks
 fi
