@@ -24,9 +24,17 @@ from scipy.optimize import brentq
 from hairtrigger import Cycle, steepness_map
 from hairtrigger.core.steady import steady_state
 
-CYCLE = Cycle(substrate_total=1.0, kinase_total=0.05, kinase_kcat=1.0, kinase_km=0.05,
-              kinase_kon=100.0, phosphatase_total=0.05, phosphatase_kcat=1.0,
-              phosphatase_km=0.05, phosphatase_kon=100.0)
+CYCLE = Cycle(
+    substrate_total=1.0,
+    kinase_total=0.05,
+    kinase_kcat=1.0,
+    kinase_km=0.05,
+    kinase_kon=100.0,
+    phosphatase_total=0.05,
+    phosphatase_kcat=1.0,
+    phosphatase_km=0.05,
+    phosphatase_kon=100.0,
+)
 GRID = 256
 KM = np.geomspace(1e-3, 1e2, GRID)
 
@@ -44,7 +52,12 @@ def best_of(fn: Callable[[], object], repeat: int = 30) -> float:
 
 def fused_map(model: str, readout: str) -> np.ndarray:
     """Hill coefficient over the grid as one closed-form numpy pass (baseline)."""
-    w, kc1, e2, kc2 = CYCLE.substrate_total, CYCLE.kinase_kcat, CYCLE.phosphatase_total, CYCLE.phosphatase_kcat
+    w, kc1, e2, kc2 = (
+        CYCLE.substrate_total,
+        CYCLE.kinase_kcat,
+        CYCLE.phosphatase_total,
+        CYCLE.phosphatase_kcat,
+    )
     m1 = KM[None, :]
     m2 = KM[:, None]
     logs = []
@@ -75,7 +88,13 @@ def forward_readout(p: dict[str, float], model: str, readout: str) -> float:
         return brentq(lambda y: v1 * (1 - y) / (k1 + 1 - y) - v2 * y / (k2 + y), 0, 1, xtol=1e-14)
     k1, k2 = p["kinase_kcat"], p["phosphatase_kcat"]
     top = min(v1, v2) * (1 - 1e-15)
-    v = brentq(lambda v: m1 * v / (v1 - v) + m2 * v / (v2 - v) + v / k1 + v / k2 - w, 0, top, xtol=1e-300, rtol=1e-13)
+    v = brentq(
+        lambda v: m1 * v / (v1 - v) + m2 * v / (v2 - v) + v / k1 + v / k2 - w,
+        0,
+        top,
+        xtol=1e-300,
+        rtol=1e-13,
+    )
     b = m2 * v / (v2 - v)
     return (b if readout == "free_modified" else b + v / k2) / w
 
@@ -87,7 +106,11 @@ def naive_point(m1: float, m2: float, model: str, readout: str) -> float:
 
     def ratio_for(target: float) -> float:
         def gap(log_r: float) -> float:
-            return forward_readout(dict(base, kinase_total=scale * math.exp(log_r)), model, readout) - target
+            return (
+                forward_readout(dict(base, kinase_total=scale * math.exp(log_r)), model, readout)
+                - target
+            )
+
         lo, hi = -30.0, 30.0
         if gap(hi) < 0:
             return math.nan
@@ -107,9 +130,13 @@ def naive_map_time(model: str, readout: str, sub: int = 6) -> tuple[float, np.nd
 
 
 def main() -> None:
-    print(f"hairtrigger core benchmark: {GRID} x {GRID} Hill-coefficient map, Km from 1e-3 to 1e2 uM")
-    print(f"{'model':13s} {'readout':15s} {'core ms':>8s} {'fused ms':>9s} {'core/fused':>10s}"
-          f" {'loop s (extrap.)':>17s} {'loop/core':>10s} {'max |diff|':>10s}")
+    print(
+        f"hairtrigger core benchmark: {GRID} x {GRID} Hill-coefficient map, Km from 1e-3 to 1e2 uM"
+    )
+    print(
+        f"{'model':13s} {'readout':15s} {'core ms':>8s} {'fused ms':>9s} {'core/fused':>10s}"
+        f" {'loop s (extrap.)':>17s} {'loop/core':>10s} {'max |diff|':>10s}"
+    )
     for model in ("quasi_steady", "mass_action"):
         for readout in ("free_modified", "total_modified"):
             t_core = best_of(lambda: steepness_map(CYCLE, KM[None, :], KM[:, None], model, readout))
@@ -119,11 +146,19 @@ def main() -> None:
             idx = np.linspace(0, GRID - 1, 6).astype(int)
             sub = core[np.ix_(idx, idx)]
             both = np.isfinite(sub) & np.isfinite(loop_values)
-            diff = float(np.max(np.abs(sub[both] - loop_values[both]) / sub[both])) if both.any() else math.nan
-            print(f"{model:13s} {readout:15s} {t_core * 1e3:8.2f} {t_fused * 1e3:9.2f} {t_core / t_fused:10.2f}"
-                  f" {t_loop:17.1f} {t_loop / t_core:10.0f} {diff:10.1e}")
+            diff = (
+                float(np.max(np.abs(sub[both] - loop_values[both]) / sub[both]))
+                if both.any()
+                else math.nan
+            )
+            print(
+                f"{model:13s} {readout:15s} {t_core * 1e3:8.2f} {t_fused * 1e3:9.2f} {t_core / t_fused:10.2f}"
+                f" {t_loop:17.1f} {t_loop / t_core:10.0f} {diff:10.1e}"
+            )
     print()
-    print("400-point steady-state curve (activity ratio 1e-2..1e2), every species and both readouts")
+    print(
+        "400-point steady-state curve (activity ratio 1e-2..1e2), every species and both readouts"
+    )
     ratios = np.geomspace(1e-2, 1e2, 400)
     for model in ("quasi_steady", "mass_action"):
         params = dict(CYCLE.as_dict(), kinase_total=ratios * CYCLE.phosphatase_total)
@@ -139,8 +174,10 @@ def main() -> None:
 
         t_curve = best_of(curve, 200)
         t_naive = best_of(naive_curve, 5) * 8
-        print(f"  {model:13s} vectorised {t_curve * 1e3:7.3f} ms   per-point brentq {t_naive * 1e3:7.2f} ms"
-              f"   ratio {t_naive / t_curve:6.0f}x   (budget 1 ms)")
+        print(
+            f"  {model:13s} vectorised {t_curve * 1e3:7.3f} ms   per-point brentq {t_naive * 1e3:7.2f} ms"
+            f"   ratio {t_naive / t_curve:6.0f}x   (budget 1 ms)"
+        )
 
 
 if __name__ == "__main__":

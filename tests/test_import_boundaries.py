@@ -34,9 +34,28 @@ def test_core_imports_only_numpy_and_scipy() -> None:
 
     import hairtrigger.core as core
 
-    allowed = {"numpy", "scipy", "math", "numbers", "dataclasses", "typing", "collections",
-               "functools", "itertools", "warnings", "__future__", "enum", "threading",
-               "time", "os", "concurrent", "contextlib", "abc", "operator", "hashlib"}
+    allowed = {
+        "numpy",
+        "scipy",
+        "math",
+        "numbers",
+        "dataclasses",
+        "typing",
+        "collections",
+        "functools",
+        "itertools",
+        "warnings",
+        "__future__",
+        "enum",
+        "threading",
+        "time",
+        "os",
+        "concurrent",
+        "contextlib",
+        "abc",
+        "operator",
+        "hashlib",
+    }
     bad = []
     for path in Path(core.__file__).parent.rglob("*.py"):
         tree = ast.parse(path.read_text(encoding="utf-8"))

@@ -14,8 +14,15 @@ from scipy.optimize import brentq
 from hairtrigger.core.steady import mass_action_state, quasi_steady_state
 from hairtrigger.core.steepness import inverse_state, readout_ceiling
 
-KEYS = ("substrate_total", "kinase_total", "kinase_kcat", "kinase_km",
-        "phosphatase_total", "phosphatase_kcat", "phosphatase_km")
+KEYS = (
+    "substrate_total",
+    "kinase_total",
+    "kinase_kcat",
+    "kinase_km",
+    "phosphatase_total",
+    "phosphatase_kcat",
+    "phosphatase_km",
+)
 
 
 def random_params(n: int, seed: int, km_low: float = -4.0) -> dict[str, np.ndarray]:
@@ -84,7 +91,10 @@ def test_mass_action_residuals_at_machine_precision() -> None:
     n = 4000
     delta = 10 ** np.random.default_rng(5).uniform(-12, -2, n)
     params["kinase_total"][:n] = (
-        params["phosphatase_total"][:n] * params["phosphatase_kcat"][:n] / params["kinase_kcat"][:n] * (1 + delta)
+        params["phosphatase_total"][:n]
+        * params["phosphatase_kcat"][:n]
+        / params["kinase_kcat"][:n]
+        * (1 + delta)
     )
     s = mass_action_state(params)
     w = params["substrate_total"]
@@ -107,11 +117,13 @@ def mass_action_rhs(t: float, x: np.ndarray, p: dict[str, float]) -> np.ndarray:
     d2 = p["a2"] * p["phosphatase_km"] - p["phosphatase_kcat"]
     bind1 = p["a1"] * a * f1 - d1 * c1
     bind2 = p["a2"] * b * f2 - d2 * c2
-    return np.array([
-        p["kinase_kcat"] * c1 - bind2,
-        bind1 - p["kinase_kcat"] * c1,
-        bind2 - p["phosphatase_kcat"] * c2,
-    ])
+    return np.array(
+        [
+            p["kinase_kcat"] * c1 - bind2,
+            bind1 - p["kinase_kcat"] * c1,
+            bind2 - p["phosphatase_kcat"] * c2,
+        ]
+    )
 
 
 @pytest.mark.parametrize("seed", range(6))
@@ -125,8 +137,15 @@ def test_mass_action_against_long_integration(seed: int) -> None:
     x = np.zeros(3)
     t_end = 1.0
     for _ in range(40):  # extend until the state stops moving (pitfall 8: include the transit)
-        sol = solve_ivp(mass_action_rhs, (0, t_end), x, method="LSODA", args=(p,), rtol=1e-12,
-                        atol=1e-15 * p["substrate_total"])
+        sol = solve_ivp(
+            mass_action_rhs,
+            (0, t_end),
+            x,
+            method="LSODA",
+            args=(p,),
+            rtol=1e-12,
+            atol=1e-15 * p["substrate_total"],
+        )
         x_new = sol.y[:, -1]
         if np.max(np.abs(mass_action_rhs(0, x_new, p))) < 1e-13 * p["substrate_total"] * max(
             p["kinase_kcat"], p["phosphatase_kcat"]
@@ -136,8 +155,12 @@ def test_mass_action_against_long_integration(seed: int) -> None:
         x, t_end = x_new, t_end * 2
     else:
         pytest.fail("integration did not become stationary")
-    np.testing.assert_allclose(x, [s.modified[0], s.kinase_complex[0], s.phosphatase_complex[0]],
-                               rtol=1e-6, atol=1e-11 * p["substrate_total"])
+    np.testing.assert_allclose(
+        x,
+        [s.modified[0], s.kinase_complex[0], s.phosphatase_complex[0]],
+        rtol=1e-6,
+        atol=1e-11 * p["substrate_total"],
+    )
 
 
 @pytest.mark.parametrize("model", ["quasi_steady", "mass_action"])

@@ -9,9 +9,17 @@ import pytest
 
 from hairtrigger import CYCLE_KEYS, Cycle
 
-GOOD = dict(substrate_total=1.0, kinase_total=0.01, kinase_kcat=1.0, kinase_km=0.1,
-            kinase_kon=100.0, phosphatase_total=0.01, phosphatase_kcat=1.0,
-            phosphatase_km=0.1, phosphatase_kon=100.0)
+GOOD = dict(
+    substrate_total=1.0,
+    kinase_total=0.01,
+    kinase_kcat=1.0,
+    kinase_km=0.1,
+    kinase_kon=100.0,
+    phosphatase_total=0.01,
+    phosphatase_kcat=1.0,
+    phosphatase_km=0.1,
+    phosphatase_kon=100.0,
+)
 
 
 def test_good_cycle_and_derived_groups() -> None:
@@ -25,7 +33,9 @@ def test_good_cycle_and_derived_groups() -> None:
 
 
 @pytest.mark.parametrize("key", CYCLE_KEYS)
-@pytest.mark.parametrize("bad", [-1.0, 0.0, math.nan, math.inf, -math.inf, True, "1.0", None, [1.0]])
+@pytest.mark.parametrize(
+    "bad", [-1.0, 0.0, math.nan, math.inf, -math.inf, True, "1.0", None, [1.0]]
+)
 def test_bad_values_name_the_parameter(key: str, bad: object) -> None:
     with pytest.raises(ValueError, match=f"`{key}` must be a finite number > 0"):
         Cycle(**dict(GOOD, **{key: bad}))

@@ -14,8 +14,15 @@ log_value = st.floats(min_value=-4.0, max_value=3.0)
 
 @st.composite
 def cycles(draw: st.DrawFn) -> dict[str, float]:
-    keys = ("substrate_total", "kinase_total", "kinase_kcat", "kinase_km",
-            "phosphatase_total", "phosphatase_kcat", "phosphatase_km")
+    keys = (
+        "substrate_total",
+        "kinase_total",
+        "kinase_kcat",
+        "kinase_km",
+        "phosphatase_total",
+        "phosphatase_kcat",
+        "phosphatase_km",
+    )
     return {k: 10 ** draw(log_value) for k in keys}
 
 
@@ -25,7 +32,9 @@ readouts = st.sampled_from(["free_modified", "total_modified"])
 
 @settings(max_examples=300, deadline=None)
 @given(cycles(), models, readouts)
-def test_readout_within_unit_interval_and_below_ceiling(p: dict[str, float], model: str, readout: str) -> None:
+def test_readout_within_unit_interval_and_below_ceiling(
+    p: dict[str, float], model: str, readout: str
+) -> None:
     y = float(steady_state(p, model).readout(readout))
     assert 0.0 <= y <= 1.0
     assert y <= float(readout_ceiling(p, model, readout)) * (1 + 1e-12)
@@ -41,7 +50,9 @@ def test_monotone_in_activity_ratio(p: dict[str, float], model: str, readout: st
 
 @settings(max_examples=300, deadline=None)
 @given(cycles(), models, readouts, st.floats(min_value=0.001, max_value=0.999))
-def test_forward_of_inverse_is_identity(p: dict[str, float], model: str, readout: str, frac: float) -> None:
+def test_forward_of_inverse_is_identity(
+    p: dict[str, float], model: str, readout: str, frac: float
+) -> None:
     target = frac * float(readout_ceiling(p, model, readout))
     inv = inverse_state(target, p, model, readout)
     assert bool(inv.reachable)
@@ -58,8 +69,10 @@ def test_conservation_of_substrate_and_enzymes(p: dict[str, float]) -> None:
     assert 0 <= float(s.kinase_complex) <= p["kinase_total"]
     assert 0 <= float(s.phosphatase_complex) <= p["phosphatase_total"]
     # free enzyme E − C binds: the Michaelis relation C·(Km + S) = E·S holds at steady state
-    for e, km, free, c in (("kinase_total", "kinase_km", s.unmodified, s.kinase_complex),
-                           ("phosphatase_total", "phosphatase_km", s.modified, s.phosphatase_complex)):
+    for e, km, free, c in (
+        ("kinase_total", "kinase_km", s.unmodified, s.kinase_complex),
+        ("phosphatase_total", "phosphatase_km", s.modified, s.phosphatase_complex),
+    ):
         assert np.isclose(float(c) * (p[km] + float(free)), p[e] * float(free), rtol=1e-11)
 
 

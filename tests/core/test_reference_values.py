@@ -38,6 +38,7 @@ def qs_params(k1: float, k2: float, ratio: float = 1.0, w: float = 1.0) -> dict[
 
 # --- Goldbeter & Koshland (1981) PNAS 78:6840: steady state of the cycle -----------------------
 
+
 def gk_published_form(v1: float, v2: float, k1: float, k2: float) -> float:
     """G = 2·V1·K2 / (B + sqrt(B² − 4(V2 − V1)·V1·K2)), B = V2 − V1 + K1·V2 + K2·V1 [P form]."""
     b = v2 - v1 + k1 * v2 + k2 * v1
@@ -50,7 +51,9 @@ def gk_published_form(v1: float, v2: float, k1: float, k2: float) -> float:
 )
 def test_goldbeter_koshland_matches_published_form(v1: float, k1: float, k2: float) -> None:
     # Goldbeter & Koshland 1981 [P form]; well-conditioned region where the textbook form is fine.
-    assert goldbeter_koshland(v1, 1.0, k1, k2) == pytest.approx(gk_published_form(v1, 1.0, k1, k2), rel=1e-12)
+    assert goldbeter_koshland(v1, 1.0, k1, k2) == pytest.approx(
+        gk_published_form(v1, 1.0, k1, k2), rel=1e-12
+    )
 
 
 def test_balanced_point_is_exact() -> None:
@@ -81,6 +84,7 @@ def test_satisfies_steady_state_equation_far_into_saturation() -> None:
 
 # --- Response coefficient (Goldbeter & Koshland 1981), REFERENCES.md [F] -------------------------
 
+
 @pytest.mark.parametrize(
     ("k", "rv", "nh"),
     [(1.0, 27.149584, 1.331102), (0.1, 3.24, None), (0.01, 1.1835527, 26.07662)],
@@ -107,8 +111,12 @@ def test_random_km_against_closed_form() -> None:
     k1 = 10 ** rng.uniform(-5, 3, 500)
     k2 = 10 ** rng.uniform(-5, 3, 500)
     got = thresholds(qs_params(k1, k2), "quasi_steady", "total_modified")  # type: ignore[arg-type]
-    np.testing.assert_allclose(got["response_coefficient"], quasi_steady_response_coefficient(k1, k2), rtol=1e-11)
-    np.testing.assert_allclose(got["hill_coefficient"], quasi_steady_hill_coefficient(k1, k2), rtol=1e-9)
+    np.testing.assert_allclose(
+        got["response_coefficient"], quasi_steady_response_coefficient(k1, k2), rtol=1e-11
+    )
+    np.testing.assert_allclose(
+        got["hill_coefficient"], quasi_steady_hill_coefficient(k1, k2), rtol=1e-9
+    )
 
 
 def test_limits_michaelian_and_one_saturated() -> None:
@@ -133,11 +141,14 @@ def test_hill_coefficient_accurate_as_rv_tends_to_one() -> None:
 def test_five_percent_swing_needs_k_about_0003() -> None:
     # [F] a 10 %→90 % swing for a ~5 % change in r needs K1 = K2 ≈ 0.003 (REFERENCES.md; the
     # "few per cent flips the switch" picture is common practice with no single source).
-    rv = float(thresholds(qs_params(0.003, 0.003), "quasi_steady", "free_modified")["response_coefficient"])
+    rv = float(
+        thresholds(qs_params(0.003, 0.003), "quasi_steady", "free_modified")["response_coefficient"]
+    )
     assert 1.04 < rv < 1.06
 
 
 # --- Steepness conventions (Ferrell & Ha 2014 TIBS 39:496 [M for the exact formula]) ----------
+
 
 def test_hill_function_ec90_over_ec10() -> None:
     # [F] for y = x^n/(K^n + x^n), EC90/EC10 = 81^(1/n), so nH = ln 81/ln(EC90/EC10) recovers n.
@@ -173,16 +184,26 @@ def test_peak_sensitivity_michaelian_limit_is_one() -> None:
 # --- Enzyme sequestration: tQSSA complex (Borghans, de Boer & Segel 1996 [M]; Ciliberto,
 #     Capuani & Tyson 2007 PLoS Comput Biol 3:e45) ------------------------------------------------
 
+
 def test_complex_matches_total_qssa_formula() -> None:
     # [F] at steady state C = ½[(E + Km + S) − sqrt((E + Km + S)² − 4·E·S)] with S the total of
     # the enzyme's substrate (free + bound); check both complexes of the mass-action solution.
     from hairtrigger.core.steady import mass_action_state
 
-    p = {"substrate_total": 1.0, "kinase_total": 0.4, "kinase_kcat": 2.0, "kinase_km": 0.05,
-         "phosphatase_total": 0.6, "phosphatase_kcat": 1.0, "phosphatase_km": 0.2}
+    p = {
+        "substrate_total": 1.0,
+        "kinase_total": 0.4,
+        "kinase_kcat": 2.0,
+        "kinase_km": 0.05,
+        "phosphatase_total": 0.6,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": 0.2,
+    }
     s = mass_action_state(p)
-    for e, km, free, c in ((0.4, 0.05, s.unmodified, s.kinase_complex),
-                           (0.6, 0.2, s.modified, s.phosphatase_complex)):
+    for e, km, free, c in (
+        (0.4, 0.05, s.unmodified, s.kinase_complex),
+        (0.6, 0.2, s.modified, s.phosphatase_complex),
+    ):
         total = float(free + c)
         expected = 0.5 * ((e + km + total) - math.sqrt((e + km + total) ** 2 - 4 * e * total))
         assert float(c) == pytest.approx(expected, rel=1e-12)
@@ -191,11 +212,21 @@ def test_complex_matches_total_qssa_formula() -> None:
 def test_evaluate_reports_contract_values_for_scarce_enzymes() -> None:
     # With enzymes scarce the mass-action model approaches the quasi-steady one (Goldbeter &
     # Koshland 1981 assume negligible complexes).
-    cycle = Cycle(substrate_total=1.0, kinase_total=1e-6, kinase_kcat=1.0, kinase_km=0.01,
-                  kinase_kon=100.0, phosphatase_total=1e-6, phosphatase_kcat=1.0,
-                  phosphatase_km=0.01, phosphatase_kon=100.0)
+    cycle = Cycle(
+        substrate_total=1.0,
+        kinase_total=1e-6,
+        kinase_kcat=1.0,
+        kinase_km=0.01,
+        kinase_kon=100.0,
+        phosphatase_total=1e-6,
+        phosphatase_kcat=1.0,
+        phosphatase_km=0.01,
+        phosphatase_kon=100.0,
+    )
     qs = evaluate(cycle, "quasi_steady")
     ma = evaluate(cycle, "mass_action")
     assert qs["hill_coefficient"] == pytest.approx(26.07662, rel=1e-6)
     assert ma["hill_coefficient"] == pytest.approx(qs["hill_coefficient"], rel=1e-3)
-    assert quasi_steady_state({k: v for k, v in cycle.as_dict().items()}).modified == pytest.approx(0.5)
+    assert quasi_steady_state({k: v for k, v in cycle.as_dict().items()}).modified == pytest.approx(
+        0.5
+    )

@@ -57,7 +57,9 @@ def goldbeter_koshland(
     exactly ``j_down / (j_up + j_down)``. The unmodified fraction is
     ``goldbeter_koshland(down, up, j_down, j_up)``, accurate where ``1 − y`` would not be.
     """
-    u1, u2, j1, j2 = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (up, down, j_up, j_down)))
+    u1, u2, j1, j2 = np.broadcast_arrays(
+        *(np.asarray(a, dtype=float) for a in (up, down, j_up, j_down))
+    )
     diff = u2 - u1
     b = diff + j1 * u2 + j2 * u1
     root = np.sqrt((diff + (j1 * u2 - j2 * u1)) ** 2 + 4.0 * u1 * u2 * j1 * j2)

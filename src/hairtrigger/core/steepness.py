@@ -138,7 +138,7 @@ def _species_at_target(
 
 
 def _log_activity_ratio(a: FloatArray, b: FloatArray, m1: FloatArray, m2: FloatArray) -> FloatArray:
-    """ln r with r = B·(M1 + A)/(A·(M2 + B)), accurate near r = 1 and far from it.
+    """Ln r with r = B·(M1 + A)/(A·(M2 + B)), accurate near r = 1 and far from it.
 
     r − 1 = (B·M1 − A·M2)/(A·(M2 + B)) exactly, and log1p of it keeps ln r accurate near
     r = 1 (steep switches, pitfall 4); far from 1 the plain logarithm of r is the accurate one
@@ -248,10 +248,12 @@ def threshold_log_ratios(
     fractions: tuple[float, ...],
     relative: bool = False,
 ) -> list[FloatArray]:
-    """ln r at each readout fraction (of W, or of the ceiling when `relative`); NaN if unreachable."""
+    """Ln r at each readout fraction (of W, or of the ceiling when `relative`); NaN if unreachable."""
     check_choice("model", model, MODELS)
     check_choice("readout", readout, READOUTS)
-    ceiling = readout_ceiling(params, model, readout) if relative and model == "mass_action" else None
+    ceiling = (
+        readout_ceiling(params, model, readout) if relative and model == "mass_action" else None
+    )
     m1 = _get(params, "kinase_km")
     m2 = _get(params, "phosphatase_km")
     logs = []
@@ -274,7 +276,7 @@ def quasi_steady_response_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArra
 
 
 def quasi_steady_hill_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
-    """ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
+    """Ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
 
     Writing Rv − 1 without subtraction keeps nH accurate as Rv → 1 (both Km tiny).
     """
@@ -286,12 +288,12 @@ def quasi_steady_hill_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
 
 # --- local sensitivity -----------------------------------------------------------------------
 
+
 def _log_slopes(
     s: FloatArray, params: Mapping[str, ArrayLike], model: str, readout: str
 ) -> FloatArray:
-    """d ln y / d ln r along the response curve, parametrised by s = B / B_max ∈ (0, 1)."""
+    """Slope d ln y / d ln r along the response curve, parametrised by s = B / B_max ∈ (0, 1)."""
     w = _get(params, "substrate_total")
-    kc1 = _get(params, "kinase_kcat")
     m1 = _get(params, "kinase_km")
     e2 = _get(params, "phosphatase_total")
     kc2 = _get(params, "phosphatase_kcat")
@@ -345,7 +347,9 @@ def peak_sensitivity(
     grid_s = 1.0 / (1.0 + np.exp(-logit))
     expanded = {k: np.asarray(v, dtype=float)[..., None] for k, v in params.items()}
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        values = _log_slopes(np.broadcast_to(grid_s, (*shape, grid_points)), expanded, model, readout)
+        values = _log_slopes(
+            np.broadcast_to(grid_s, (*shape, grid_points)), expanded, model, readout
+        )
         values = np.where(np.isfinite(values), values, -np.inf)
         best = np.argmax(values, axis=-1)
         lo = logit[np.clip(best - 1, 0, grid_points - 1)]
