@@ -138,7 +138,7 @@ def _species_at_target(
 
 
 def _log_activity_ratio(a: FloatArray, b: FloatArray, m1: FloatArray, m2: FloatArray) -> FloatArray:
-    """Ln r with r = B·(M1 + A)/(A·(M2 + B)), accurate near r = 1 and far from it.
+    """Log activity ratio ln r, r = B·(M1 + A)/(A·(M2 + B)), accurate near r = 1 and far from it.
 
     r − 1 = (B·M1 − A·M2)/(A·(M2 + B)) exactly, and log1p of it keeps ln r accurate near
     r = 1 (steep switches, pitfall 4); far from 1 the plain logarithm of r is the accurate one
@@ -248,7 +248,7 @@ def threshold_log_ratios(
     fractions: tuple[float, ...],
     relative: bool = False,
 ) -> list[FloatArray]:
-    """Ln r at each readout fraction (of W, or of the ceiling when `relative`); NaN if unreachable."""
+    """Log activity ratio ln r at each readout fraction (of W, or of the ceiling when `relative`); NaN if unreachable."""
     check_choice("model", model, MODELS)
     check_choice("readout", readout, READOUTS)
     ceiling = (
@@ -276,7 +276,7 @@ def quasi_steady_response_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArra
 
 
 def quasi_steady_hill_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
-    """Ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
+    """Hill coefficient ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
 
     Writing Rv − 1 without subtraction keeps nH accurate as Rv → 1 (both Km tiny).
     """
