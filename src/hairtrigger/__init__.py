@@ -5,6 +5,8 @@ package loads numpy and scipy only; the widget layer lives in `hairtrigger.widge
 """
 
 from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map
+from .core.fitting import fit_dose_response
+from .io.data import load_data
 
 __version__ = "0.1.0"
 
@@ -13,5 +15,7 @@ __all__ = [
     "Cycle",
     "__version__",
     "evaluate",
+    "fit_dose_response",
+    "load_data",
     "steepness_map",
 ]

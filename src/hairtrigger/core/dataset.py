@@ -22,14 +22,14 @@ INPUT_KINDS: Final[tuple[str, ...]] = ("ratio", "amount")
 
 
 def describe_rows(rows: Sequence[int], label: str = "row") -> str:
-    """Return a short human description of a set of row numbers, e.g. ``rows 2–9``."""
+    """Return a short human description of a set of row numbers, e.g. ``rows 2-9``."""
     rows = sorted(rows)
     if not rows:
         return f"no {label}s"
     if len(rows) == 1:
         return f"{label} {rows[0]}"
     if rows == list(range(rows[0], rows[-1] + 1)):
-        return f"{label}s {rows[0]}–{rows[-1]}"
+        return f"{label}s {rows[0]}-{rows[-1]}"
     shown = ", ".join(str(r) for r in rows[:6])
     return f"{label}s {shown}{', …' if len(rows) > 6 else ''}"
 

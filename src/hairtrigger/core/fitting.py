@@ -1087,7 +1087,7 @@ def compare_fits(fits: Mapping[str, FitResult], confidence: float = 0.95) -> dic
         runner = sorted(score, key=lambda k: score[k])[1]
         gap = score[runner] - score[best]
         verdict = (f"by AICc the {best} model is preferred over {runner} "
-                   f"(ΔAICc = {gap:.1f}{'; a weak preference' if gap < 2 else ''})")
+                   f"(delta AICc = {gap:.1f}{'; a weak preference' if gap < 2 else ''})")
     mich, hill = ok.get("michaelian"), ok.get("hill")
     if mich is not None and hill is not None:
         test = nested_test(mich, hill)

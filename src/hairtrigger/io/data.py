@@ -241,7 +241,7 @@ class _Parser:
         sd = self._numbers(cells, "sd", rows, minimum="positive") if "sd" in cells else None
         if np.all(y == y[0]):
             raise self.fail(
-                f"all {len(rows)} readouts are equal ({y[0]:g}, rows {rows[0]}–{rows[-1]}); a "
+                f"all {len(rows)} readouts are equal ({y[0]:g}, rows {rows[0]}-{rows[-1]}); a "
                 "flat response has nothing to fit", None, "readout"
             )
 
