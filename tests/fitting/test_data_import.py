@@ -65,6 +65,11 @@ def test_units_on_header_names_and_extra_columns_kept():
     assert data.extra_columns == {"well": ("A1", "A2")}
 
 
+def test_an_input_unit_implies_an_amount():
+    data = parse_data("input [nM],readout\n0.5,10\n1,50\n")
+    assert data.input_kind == "amount" and data.input_kind_declared and data.input_unit == "nM"
+
+
 def test_byte_order_mark_blank_lines_and_comments_inside_data():
     raw = "\ufeffinput,readout\n\n0.5,0.1\n# a note between rows\n1,0.5\n".encode()
     data = parse_data(raw)

@@ -14,7 +14,8 @@ File format (UTF-8 text; comma, tab or semicolon separated)::
 * Header: ``input`` and ``readout`` are required; ``sd`` (standard deviation of the readout,
   > 0; the fit is then weighted) and ``replicate`` (any label) are optional. Names are
   case-insensitive; other columns are kept as text. A unit can ride on the header name,
-  ``input [nM]`` or ``input (nM)``.
+  ``input [nM]`` or ``input (nM)``. An input unit other than a ratio's (``1``) implies
+  ``input_kind: amount`` when the kind is not declared.
 * Comment lines start with ``#``. Before the header, a comment of the form ``# key: value``
   (or ``key = value``) declares metadata: ``input_kind`` (``ratio``: the input is the activity
   ratio V1/V2; ``amount``: any quantity proportional to kinase activity, for which the cycle
@@ -255,15 +256,18 @@ class _Parser:
         kind = None if kind is None else kind.lower()
         in_unit = self._resolve("input_unit", input_unit, metadata, metadata_rows,
                                 (header_units.get("input"), header_row))
+        ratio_units = (None, "1", "", "ratio", "dimensionless")
         out_unit = self._resolve("readout_unit", readout_unit, metadata, metadata_rows,
                                  (header_units.get("readout"), header_row))
-        if kind == "ratio" and in_unit not in (None, "1", "", "ratio", "dimensionless"):
+        if kind == "ratio" and in_unit not in ratio_units:
             raise self.fail(
                 f"input_kind is 'ratio' (dimensionless) but the input unit is {in_unit!r}; use "
                 "input_kind 'amount' for a dose in units", metadata_rows.get("input_unit",
                                                                              header_row),
                 "input",
             )
+        if kind is None and in_unit not in ratio_units:
+            kind = "amount"  # a dose with a unit is an amount, not an activity ratio
         resolved_kind = kind or "ratio"
         extra = {
             name: tuple(values) for name, values in cells.items() if name not in KNOWN_COLUMNS
