@@ -77,8 +77,12 @@ def test_byte_order_mark_blank_lines_and_comments_inside_data():
 
 
 def test_function_arguments_declare_units_when_file_is_silent(write_csv):
-    data = load_data(write_csv("input,readout\n0,0.1\n1,0.5\n"), input_kind="amount",
-                     input_unit="ug/mL", readout_unit="fraction")
+    data = load_data(
+        write_csv("input,readout\n0,0.1\n1,0.5\n"),
+        input_kind="amount",
+        input_unit="ug/mL",
+        readout_unit="fraction",
+    )
     assert (data.input_kind, data.input_unit, data.readout_unit) == ("amount", "ug/mL", "fraction")
 
 
@@ -93,34 +97,64 @@ BAD = [
     pytest.param("dose,readout\n1,2\n", 1, "input", "missing column", id="missing-input"),
     pytest.param("input,readout,input\n1,2,3\n", 1, "input", "twice", id="duplicate-column"),
     pytest.param("input,,readout\n1,2,3\n", 1, None, "empty", id="unnamed-column"),
-    pytest.param("input,readout\n0,0.1\n1,abc\n", 3, "readout", "not a number",
-                 id="non-numeric-readout"),
-    pytest.param("input,readout\n0,0.1\nx1,0.2\n", 3, "input", "not a number",
-                 id="non-numeric-input"),
-    pytest.param("input;readout\n0;0,1\n1;0,5\n", 2, "readout", "decimal point",
-                 id="decimal-comma"),
+    pytest.param(
+        "input,readout\n0,0.1\n1,abc\n", 3, "readout", "not a number", id="non-numeric-readout"
+    ),
+    pytest.param(
+        "input,readout\n0,0.1\nx1,0.2\n", 3, "input", "not a number", id="non-numeric-input"
+    ),
+    pytest.param(
+        "input;readout\n0;0,1\n1;0,5\n", 2, "readout", "decimal point", id="decimal-comma"
+    ),
     pytest.param("input,readout\n0,0.1\n1,nan\n", 3, "readout", "finite", id="nan-readout"),
     pytest.param("input,readout\ninf,0.1\n1,0.4\n", 2, "input", "finite", id="inf-input"),
-    pytest.param("input,readout\n1_000,0.1\n1,0.4\n", 2, "input", "not a number",
-                 id="underscore-number"),
+    pytest.param(
+        "input,readout\n1_000,0.1\n1,0.4\n", 2, "input", "not a number", id="underscore-number"
+    ),
     pytest.param("input,readout\n0,0.1\n-1,0.4\n", 3, "input", "negative", id="negative-input"),
     pytest.param("input,readout\n0,0.1\n,0.4\n", 3, "input", "empty cell", id="empty-input"),
     pytest.param("input,readout,sd\n0,0.1,0.01\n1,0.4,\n", 3, "sd", "every row", id="empty-sd"),
     pytest.param("input,readout,sd\n0,0.1,0\n1,0.4,0.1\n", 2, "sd", "positive", id="zero-sd"),
-    pytest.param("input,readout,sd\n0,0.1,-0.1\n1,0.4,0.1\n", 2, "sd", "positive",
-                 id="negative-sd"),
+    pytest.param(
+        "input,readout,sd\n0,0.1,-0.1\n1,0.4,0.1\n", 2, "sd", "positive", id="negative-sd"
+    ),
     pytest.param("input,readout\n0,0.1\n1,0.4,7\n", 3, None, "3 cells", id="too-many-cells"),
     pytest.param("input,readout,sd\n0,0.1\n", 2, None, "2 cells", id="too-few-cells"),
-    pytest.param("input,readout\n0,0.3\n1,0.3\n2,0.3\n", None, "readout", "all 3 readouts are equal",
-                 id="all-equal-readouts"),
-    pytest.param("# input_kind: dose\ninput,readout\n0,0.1\n1,0.4\n", 1, None, "ratio' or 'amount",
-                 id="bad-input-kind"),
-    pytest.param("# input_kind: ratio\n# input_unit: nM\ninput,readout\n0,0.1\n1,0.4\n", 2,
-                 "input", "dimensionless", id="ratio-with-unit"),
-    pytest.param("# input_unit: nM\ninput [uM],readout\n0,0.1\n1,0.4\n", 1, None, "conflicting",
-                 id="conflicting-units"),
-    pytest.param("# title: a\n# title: b\ninput,readout\n0,0.1\n1,0.4\n", 2, None, "twice",
-                 id="duplicate-metadata"),
+    pytest.param(
+        "input,readout\n0,0.3\n1,0.3\n2,0.3\n",
+        None,
+        "readout",
+        "all 3 readouts are equal",
+        id="all-equal-readouts",
+    ),
+    pytest.param(
+        "# input_kind: dose\ninput,readout\n0,0.1\n1,0.4\n",
+        1,
+        None,
+        "ratio' or 'amount",
+        id="bad-input-kind",
+    ),
+    pytest.param(
+        "# input_kind: ratio\n# input_unit: nM\ninput,readout\n0,0.1\n1,0.4\n",
+        2,
+        "input",
+        "dimensionless",
+        id="ratio-with-unit",
+    ),
+    pytest.param(
+        "# input_unit: nM\ninput [uM],readout\n0,0.1\n1,0.4\n",
+        1,
+        None,
+        "conflicting",
+        id="conflicting-units",
+    ),
+    pytest.param(
+        "# title: a\n# title: b\ninput,readout\n0,0.1\n1,0.4\n",
+        2,
+        None,
+        "twice",
+        id="duplicate-metadata",
+    ),
     pytest.param('input,readout\n0,"0.1\n1,0.4\n', 2, None, "cannot split", id="open-quote"),
 ]
 
@@ -174,6 +208,7 @@ def test_missing_file_is_an_oserror(tmp_path):
 
 
 # --- the array constructor validates the same way, naming points ---------------------------
+
 
 @pytest.mark.parametrize(
     ("kwargs", "words"),

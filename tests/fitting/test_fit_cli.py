@@ -18,8 +18,9 @@ CONTRACT_KEYS = ("model", "parameters", "aic", "residual_sd", "n_points", "warni
 def _csv(x, y, sd=None, header_comments=""):
     lines = [header_comments + ("input,readout,sd" if sd is not None else "input,readout")]
     for i, (a, b) in enumerate(zip(x, y, strict=True)):
-        lines.append(f"{float(a)!r},{float(b)!r}" + (f",{float(sd[i])!r}" if sd is not None
-                                                     else ""))
+        lines.append(
+            f"{float(a)!r},{float(b)!r}" + (f",{float(sd[i])!r}" if sd is not None else "")
+        )
     return "\n".join(lines) + "\n"
 
 
@@ -47,8 +48,13 @@ def run_cli(args, capsys):
 
 
 def test_subprocess_contract(hill_csv, cli_env):
-    proc = subprocess.run([sys.executable, "-m", "hairtrigger", "fit", str(hill_csv), "--model",
-                           "hill"], capture_output=True, text=True, env=cli_env, timeout=120)
+    proc = subprocess.run(
+        [sys.executable, "-m", "hairtrigger", "fit", str(hill_csv), "--model", "hill"],
+        capture_output=True,
+        text=True,
+        env=cli_env,
+        timeout=120,
+    )
     assert proc.returncode == 0, proc.stderr
     out = json.loads(proc.stdout)
     assert list(out)[: len(CONTRACT_KEYS)] == list(CONTRACT_KEYS)
@@ -66,8 +72,13 @@ def test_subprocess_contract(hill_csv, cli_env):
 
 def test_subprocess_bad_input_is_one_line_without_traceback(write_csv, cli_env):
     path = write_csv("input,readout\n0,0.1\n1,oops\n2,0.9\n")
-    proc = subprocess.run([sys.executable, "-m", "hairtrigger", "fit", str(path)],
-                          capture_output=True, text=True, env=cli_env, timeout=120)
+    proc = subprocess.run(
+        [sys.executable, "-m", "hairtrigger", "fit", str(path)],
+        capture_output=True,
+        text=True,
+        env=cli_env,
+        timeout=120,
+    )
     assert proc.returncode == 2
     assert proc.stdout == ""
     lines = proc.stderr.strip().splitlines()
@@ -89,17 +100,37 @@ def test_every_model_runs(model, dose_csv, capsys):
 def test_mass_action_with_explicit_totals(write_csv, capsys):
     from hairtrigger.core.fit_models import MassActionModel
 
-    known = {"substrate_total": 2.0, "phosphatase_total": 0.3, "kinase_kcat": 5.0,
-             "phosphatase_kcat": 3.0}
+    known = {
+        "substrate_total": 2.0,
+        "phosphatase_total": 0.3,
+        "kinase_kcat": 5.0,
+        "phosphatase_kcat": 3.0,
+    }
     r = np.geomspace(0.2, 3.0, 14)
     rng = np.random.default_rng(3)
-    y = (MassActionModel(known).predict(np.array([0.1, 0.3, 0.02, 0.95]), r)
-         + rng.normal(0, 0.01, r.size))
+    y = MassActionModel(known).predict(np.array([0.1, 0.3, 0.02, 0.95]), r) + rng.normal(
+        0, 0.01, r.size
+    )
     path = write_csv(_csv(r, y))
     status, out, err = run_cli(
-        ["fit", str(path), "--model", "mass_action", "--substrate-total", "2",
-         "--phosphatase-total", "0.3", "--kinase-kcat", "5", "--phosphatase-kcat", "3",
-         "--readout", "total_modified"], capsys)
+        [
+            "fit",
+            str(path),
+            "--model",
+            "mass_action",
+            "--substrate-total",
+            "2",
+            "--phosphatase-total",
+            "0.3",
+            "--kinase-kcat",
+            "5",
+            "--phosphatase-kcat",
+            "3",
+            "--readout",
+            "total_modified",
+        ],
+        capsys,
+    )
     assert status == 0, err
     result = json.loads(out)
     assert list(result["parameters"]) == ["kinase_km", "phosphatase_km", "bottom", "top"]
@@ -119,8 +150,10 @@ def test_bootstrap_option_is_reproducible(hill_csv, capsys):
 
 
 def test_fix_and_compare_options(hill_csv, capsys):
-    status, out, err = run_cli(["fit", str(hill_csv), "--fix", "bottom=0.1", "--compare",
-                                "michaelian,hill,quasi_steady"], capsys)
+    status, out, err = run_cli(
+        ["fit", str(hill_csv), "--fix", "bottom=0.1", "--compare", "michaelian,hill,quasi_steady"],
+        capsys,
+    )
     assert status == 0, err
     result = json.loads(out)
     assert result["parameters"]["bottom"]["fixed"] is True
@@ -143,8 +176,22 @@ def test_help_describes_the_command(capsys):
         ([], "input,readout\n0,0.4\n1,0.4\n2,0.4\n", "all 3 readouts are equal"),
         (["--model", "mass_action"], None, "needs the known totals"),
         (["--model", "mass_action", "--substrate-total", "1"], None, "--phosphatase-total"),
-        (["--substrate-total", "-1", "--model", "mass_action", "--phosphatase-total", "1",
-          "--kinase-kcat", "1", "--phosphatase-kcat", "1"], None, "substrate_total"),
+        (
+            [
+                "--substrate-total",
+                "-1",
+                "--model",
+                "mass_action",
+                "--phosphatase-total",
+                "1",
+                "--kinase-kcat",
+                "1",
+                "--phosphatase-kcat",
+                "1",
+            ],
+            None,
+            "substrate_total",
+        ),
         (["--fix", "bottom"], None, "NAME=VALUE"),
         (["--fix", "bottom=low"], None, "not a number"),
         (["--fix", "slope=1"], None, "cannot fix `slope`"),
@@ -153,10 +200,16 @@ def test_help_describes_the_command(capsys):
         (["--confidence", "1.5"], None, "--confidence"),
         (["--compare", "hill,logistic"], None, "unknown model 'logistic'"),
         (["--absolute-sd"], None, "sd"),
-        (["--input-kind", "ratio"], "# input_kind: amount\ninput,readout\n0,0.1\n1,0.5\n2,0.8\n"
-         "3,0.9\n4,0.95\n", "conflicting input_kind"),
-        (["--input-kind", "ratio", "--input-unit", "nM"], "input,readout\n0,0.1\n1,0.5\n",
-         "dimensionless"),
+        (
+            ["--input-kind", "ratio"],
+            "# input_kind: amount\ninput,readout\n0,0.1\n1,0.5\n2,0.8\n3,0.9\n4,0.95\n",
+            "conflicting input_kind",
+        ),
+        (
+            ["--input-kind", "ratio", "--input-unit", "nM"],
+            "input,readout\n0,0.1\n1,0.5\n",
+            "dimensionless",
+        ),
     ],
 )
 def test_bad_input_exits_2_with_one_line(hill_csv, write_csv, capsys, extra, content, words):

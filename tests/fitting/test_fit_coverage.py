@@ -65,13 +65,14 @@ def test_quasi_steady_profile_intervals_cover_95_percent(record_property):
     for seed in range(100):
         rng = np.random.default_rng(1000 + seed)
         y = 0.05 + 0.85 * gk_modified_fraction(r, 0.1, 0.2) + rng.normal(0.0, 0.02, r.size)
-        fits.append(fit_model({"input": r, "readout": y, "input_kind": "ratio"},
-                              "quasi_steady"))
+        fits.append(fit_model({"input": r, "readout": y, "input_kind": "ratio"}, "quasi_steady"))
     assert all(f.success for f in fits)
     rates = coverage(fits, truth)
     low, high = binomial_band(len(fits))
-    print(f"\nQuasi-steady profile coverage over {len(fits)} seeds: {rates} "
-          f"(band {low:.3f}-{high:.3f})")
+    print(
+        f"\nQuasi-steady profile coverage over {len(fits)} seeds: {rates} "
+        f"(band {low:.3f}-{high:.3f})"
+    )
     record_property("quasi_steady_profile_coverage", rates)
     for name, rate in rates.items():
         assert low <= rate <= high, (name, rate)

@@ -36,9 +36,16 @@ def test_hill_recovers_known_parameters(hill_data):
 def test_hill_fit_agrees_with_scipy_curve_fit(hill_data):
     data = hill_data(seed=3)
     fit = fit_model(data, "hill")
-    popt, pcov = optimize.curve_fit(hill_curve, data["input"], data["readout"],
-                                    p0=[1.5, 2.0, 0.0, 1.0], ftol=1e-14, xtol=1e-14,
-                                    gtol=1e-14, maxfev=20000)
+    popt, pcov = optimize.curve_fit(
+        hill_curve,
+        data["input"],
+        data["readout"],
+        p0=[1.5, 2.0, 0.0, 1.0],
+        ftol=1e-14,
+        xtol=1e-14,
+        gtol=1e-14,
+        maxfev=20000,
+    )
     ours = np.array([fit.values[k] for k in HILL_TRUTH])
     np.testing.assert_allclose(ours, popt, rtol=2e-6, atol=1e-8)
     # Correlations do not depend on the log scale of the positive parameters (a diagonal
@@ -48,8 +55,9 @@ def test_hill_fit_agrees_with_scipy_curve_fit(hill_data):
     for a, na in enumerate(names):
         for b, nb in enumerate(names):
             assert fit.correlations[na][nb] == pytest.approx(corr[a, b], abs=1e-4)
-    assert fit.rss == pytest.approx(np.sum((hill_curve(data["input"], *popt) - data["readout"])
-                                           ** 2), rel=1e-9)
+    assert fit.rss == pytest.approx(
+        np.sum((hill_curve(data["input"], *popt) - data["readout"]) ** 2), rel=1e-9
+    )
 
 
 def test_weighted_hill_fit_agrees_with_curve_fit_sigma(hill_data):
@@ -59,12 +67,21 @@ def test_weighted_hill_fit_agrees_with_curve_fit_sigma(hill_data):
     data["readout"] = hill_curve(data["input"], 2.0, 2.5, 0.1, 1.0) + rng.normal(0, sd)
     data["sd"] = sd
     fit = fit_model(data, "hill")
-    popt, _ = optimize.curve_fit(hill_curve, data["input"], data["readout"], sigma=sd,
-                                 p0=[2.0, 2.5, 0.1, 1.0], ftol=1e-14, xtol=1e-14, gtol=1e-14,
-                                 maxfev=20000)
+    popt, _ = optimize.curve_fit(
+        hill_curve,
+        data["input"],
+        data["readout"],
+        sigma=sd,
+        p0=[2.0, 2.5, 0.1, 1.0],
+        ftol=1e-14,
+        xtol=1e-14,
+        gtol=1e-14,
+        maxfev=20000,
+    )
     np.testing.assert_allclose([fit.values[k] for k in HILL_TRUTH], popt, rtol=2e-6, atol=1e-8)
     assert fit.chi_square == pytest.approx(
-        np.sum(((hill_curve(data["input"], *popt) - data["readout"]) / sd) ** 2), rel=1e-8)
+        np.sum(((hill_curve(data["input"], *popt) - data["readout"]) / sd) ** 2), rel=1e-8
+    )
 
 
 def _quasi_steady_curve(x, k1, k2, scale, bottom, top):
@@ -86,13 +103,20 @@ def test_multistart_finds_the_fit_a_single_start_misses(k1, k2, scale):
         return float(np.sum((_quasi_steady_curve(x, *p) - y) ** 2))
 
     try:
-        single, _ = optimize.curve_fit(_quasi_steady_curve, x, y, p0=[1, 1, 1, 0, 1],
-                                       maxfev=20000)
+        single, _ = optimize.curve_fit(_quasi_steady_curve, x, y, p0=[1, 1, 1, 0, 1], maxfev=20000)
         rss_single = rss(single)
     except RuntimeError:
         rss_single = math.inf
-    from_truth, _ = optimize.curve_fit(_quasi_steady_curve, x, y, p0=[k1, k2, scale, 0.1, 1.0],
-                                       ftol=1e-14, xtol=1e-14, gtol=1e-14, maxfev=20000)
+    from_truth, _ = optimize.curve_fit(
+        _quasi_steady_curve,
+        x,
+        y,
+        p0=[k1, k2, scale, 0.1, 1.0],
+        ftol=1e-14,
+        xtol=1e-14,
+        gtol=1e-14,
+        maxfev=20000,
+    )
     assert rss_single > 10 * fit.rss
     assert fit.rss == pytest.approx(rss(from_truth), rel=1e-7)
     assert fit.values["input_scale"] == pytest.approx(scale, rel=0.2)
@@ -125,8 +149,12 @@ def test_exact_curves_in_dose_units_recover_the_scale(k1, k2, scale):
     assert next(p for p in fit.parameters if p.name == "input_scale").unit == "1/nM"
 
 
-KNOWN = {"substrate_total": 2.0, "phosphatase_total": 0.3, "kinase_kcat": 5.0,
-         "phosphatase_kcat": 3.0}
+KNOWN = {
+    "substrate_total": 2.0,
+    "phosphatase_total": 0.3,
+    "kinase_kcat": 5.0,
+    "phosphatase_kcat": 3.0,
+}
 
 
 def test_exact_mass_action_curve_is_fitted_back():
@@ -148,15 +176,24 @@ def test_mass_action_recovers_michaelis_constants_from_noisy_data():
     est = {p.name: p for p in fit.parameters}
     for name, truth in (("kinase_km", 0.1), ("phosphatase_km", 0.3)):
         assert est[name].low < truth < est[name].high
-    cycle = Cycle(substrate_total=2.0, kinase_total=0.1, kinase_kcat=5.0, kinase_km=1.0,
-                  kinase_kon=100.0, phosphatase_total=0.3, phosphatase_kcat=3.0,
-                  phosphatase_km=1.0, phosphatase_kon=100.0)
+    cycle = Cycle(
+        substrate_total=2.0,
+        kinase_total=0.1,
+        kinase_kcat=5.0,
+        kinase_km=1.0,
+        kinase_kon=100.0,
+        phosphatase_total=0.3,
+        phosphatase_kcat=3.0,
+        phosphatase_km=1.0,
+        phosphatase_kon=100.0,
+    )
     adopted = fit.fitted_cycle(cycle)
     assert adopted.kinase_km == fit.values["kinase_km"]
     assert adopted.phosphatase_total == 0.3
 
 
 # --- intervals are exact where theory says they must be --------------------------------------
+
 
 def _linear_subproblem(seed: int, weighted: bool):
     rng = np.random.default_rng(seed)
@@ -173,8 +210,11 @@ def test_profile_interval_is_the_classical_t_interval_for_a_linear_model(weighte
     # interval must equal the textbook regression t interval exactly (e.g. Seber & Wild 1989,
     # Nonlinear Regression, ch. 5: profile intervals reduce to t intervals for linear models).
     x, f, y, sd = _linear_subproblem(7, weighted)
-    fit = fit_model({"input": x, "readout": y, **({"sd": sd} if weighted else {})}, "hill",
-                    fixed={"ec50": 1.0, "hill_coefficient": 2.0})
+    fit = fit_model(
+        {"input": x, "readout": y, **({"sd": sd} if weighted else {})},
+        "hill",
+        fixed={"ec50": 1.0, "hill_coefficient": 2.0},
+    )
     w = np.ones_like(y) if sd is None else 1.0 / sd
     design = np.column_stack([1.0 - f, f]) * w[:, None]
     beta, rss, *_ = np.linalg.lstsq(design, y * w, rcond=None)
@@ -193,8 +233,12 @@ def test_profile_interval_is_the_classical_t_interval_for_a_linear_model(weighte
 
 def test_absolute_sd_gives_the_normal_interval_for_a_linear_model():
     x, f, y, sd = _linear_subproblem(8, True)
-    fit = fit_model({"input": x, "readout": y, "sd": sd}, "hill", absolute_sd=True,
-                    fixed={"ec50": 1.0, "hill_coefficient": 2.0})
+    fit = fit_model(
+        {"input": x, "readout": y, "sd": sd},
+        "hill",
+        absolute_sd=True,
+        fixed={"ec50": 1.0, "hill_coefficient": 2.0},
+    )
     design = np.column_stack([1.0 - f, f]) / sd[:, None]
     beta = np.linalg.lstsq(design, y / sd, rcond=None)[0]
     se = np.sqrt(np.diag(np.linalg.inv(design.T @ design)))
@@ -213,6 +257,7 @@ def test_confidence_level_widens_intervals(hill_data):
 
 # --- identifiability ----------------------------------------------------------------------------
 
+
 def test_k1_and_k2_from_one_curve_in_dose_units_are_flagged():
     # A moderately steep curve in arbitrary dose units: the midpoint is absorbed by the scale,
     # leaving one shape number (steepness) for two constants.
@@ -220,10 +265,12 @@ def test_k1_and_k2_from_one_curve_in_dose_units_are_flagged():
     k1, k2, scale = 0.3, 0.3, 0.5
     dose = np.repeat(np.geomspace(0.5, 8.0, 9), 2)
     y = 0.05 + 0.9 * gk_modified_fraction(scale * dose, k1, k2) + rng.normal(0, 0.03, dose.size)
-    out = fit_dose_response({"input": dose, "readout": y, "input_kind": "amount"},
-                            "quasi_steady", compare=None)
-    open_ends = [(n, p) for n, p in out["parameters"].items()
-                 if p["low"] is None or p["high"] is None]
+    out = fit_dose_response(
+        {"input": dose, "readout": y, "input_kind": "amount"}, "quasi_steady", compare=None
+    )
+    open_ends = [
+        (n, p) for n, p in out["parameters"].items() if p["low"] is None or p["high"] is None
+    ]
     assert open_ends, out["parameters"]
     text = " ".join(out["warnings"])
     assert "not identifiable" in text
@@ -249,6 +296,7 @@ def test_well_determined_fit_has_no_identifiability_warnings(hill_data):
 
 # --- model comparison -----------------------------------------------------------------------
 
+
 def test_steep_data_are_steeper_than_michaelian(hill_data):
     out = fit_dose_response(hill_data(seed=0, n=3.0), "hill")
     comparison = out["comparison"]
@@ -263,8 +311,9 @@ def test_michaelian_data_are_not_distinguishable(hill_data):
 
 
 def test_shallow_data_are_shallower_than_michaelian(hill_data):
-    out = fit_dose_response(hill_data(seed=0, n=0.5, ec50=1.0, low=1e-3, high=1e3,
-                                      levels=12, noise=0.01), "hill")
+    out = fit_dose_response(
+        hill_data(seed=0, n=0.5, ec50=1.0, low=1e-3, high=1e3, levels=12, noise=0.01), "hill"
+    )
     assert out["comparison"]["verdict"].startswith("shallower than Michaelian at 95 %")
 
 
@@ -273,8 +322,9 @@ def test_f_test_and_aicc_match_independent_computation(hill_data):
     x, y = data["input"], data["readout"]
     out = fit_dose_response(data, "hill")
     hill_p, _ = optimize.curve_fit(hill_curve, x, y, p0=[2.0, 1.6, 0.1, 1.0], maxfev=20000)
-    mich_p, _ = optimize.curve_fit(lambda x, e, b, t: hill_curve(x, e, 1.0, b, t), x, y,
-                                   p0=[2.0, 0.1, 1.0], maxfev=20000)
+    mich_p, _ = optimize.curve_fit(
+        lambda x, e, b, t: hill_curve(x, e, 1.0, b, t), x, y, p0=[2.0, 0.1, 1.0], maxfev=20000
+    )
     rss_h = np.sum((hill_curve(x, *hill_p) - y) ** 2)
     rss_m = np.sum((hill_curve(x, mich_p[0], 1.0, *mich_p[1:]) - y) ** 2)
     n = x.size
@@ -310,6 +360,7 @@ def test_understated_sd_is_reported(hill_data):
 
 # --- bootstrap ---------------------------------------------------------------------------------
 
+
 def test_bootstrap_is_seeded_and_close_to_the_profile(hill_data):
     data = hill_data(seed=4)
     a = fit_model(data, "hill", intervals="bootstrap", bootstrap=200, seed=1)
@@ -329,6 +380,7 @@ def test_bootstrap_is_seeded_and_close_to_the_profile(hill_data):
 
 # --- fixing, predicting, failures, bad arguments -------------------------------------------
 
+
 def test_fixed_parameters_are_reported_and_not_counted(hill_data):
     out = fit_dose_response(hill_data(seed=0), "hill", fixed={"bottom": 0.1})
     bottom = out["parameters"]["bottom"]
@@ -341,8 +393,11 @@ def test_predict_follows_the_fit(hill_data):
     fit = fit_model(hill_data(seed=0), "hill")
     x = np.array([0.0, 1.0, 2.0, 50.0])
     v = fit.values
-    np.testing.assert_allclose(fit.predict(x), hill_curve(x, v["ec50"], v["hill_coefficient"],
-                                                          v["bottom"], v["top"]), rtol=1e-12)
+    np.testing.assert_allclose(
+        fit.predict(x),
+        hill_curve(x, v["ec50"], v["hill_coefficient"], v["bottom"], v["top"]),
+        rtol=1e-12,
+    )
     np.testing.assert_allclose(fit.residuals, fit.readout - fit.fitted)
     with pytest.raises(ValueError, match="`x`"):
         fit.predict([-1.0])
@@ -351,8 +406,9 @@ def test_predict_follows_the_fit(hill_data):
 
 
 def test_numerical_failure_is_data(hill_data, monkeypatch):
-    monkeypatch.setattr(HillModel, "shape", lambda self, phi, x: np.full((phi.shape[0], x.size),
-                                                                         np.nan))
+    monkeypatch.setattr(
+        HillModel, "shape", lambda self, phi, x: np.full((phi.shape[0], x.size), np.nan)
+    )
     fit = fit_model(hill_data(seed=0), "hill")
     assert not fit.success and fit.status == 2
     assert "finite" in fit.message
@@ -395,7 +451,8 @@ def test_input_kind_conflict_with_declared_data():
 
 def test_cycle_models_say_when_the_input_kind_was_assumed():
     r = np.geomspace(0.3, 3, 9)
-    out = fit_dose_response({"input": r, "readout": gk_modified_fraction(r, 0.1, 0.1)},
-                            "quasi_steady", compare=None)
+    out = fit_dose_response(
+        {"input": r, "readout": gk_modified_fraction(r, 0.1, 0.1)}, "quasi_steady", compare=None
+    )
     assert any("taken as the activity ratio" in w for w in out["warnings"])
     assert out["comparison"] is None

@@ -24,8 +24,9 @@ X = np.array([0.0, 0.05, 0.3, 1.0, 1.7, 4.0, 25.0])
 
 def test_hill_and_michaelian_match_the_textbook_formulas():
     theta = np.array([1.7, 2.6, 0.05, 0.9])
-    np.testing.assert_allclose(HillModel().predict(theta, X), hill_curve(X, 1.7, 2.6, 0.05, 0.9),
-                               rtol=1e-13, atol=1e-15)
+    np.testing.assert_allclose(
+        HillModel().predict(theta, X), hill_curve(X, 1.7, 2.6, 0.05, 0.9), rtol=1e-13, atol=1e-15
+    )
     theta = np.array([1.7, -0.2, 1.3])
     expected = -0.2 + 1.5 * X / (1.7 + X)
     np.testing.assert_allclose(MichaelianModel().predict(theta, X), expected, rtol=1e-13)
@@ -60,8 +61,12 @@ def test_quasi_steady_amount_input_scales_the_ratio():
     np.testing.assert_allclose(y, expected, rtol=1e-10, atol=1e-14)
 
 
-KNOWN = {"substrate_total": 2.0, "phosphatase_total": 0.2, "kinase_kcat": 4.0,
-         "phosphatase_kcat": 2.5}
+KNOWN = {
+    "substrate_total": 2.0,
+    "phosphatase_total": 0.2,
+    "kinase_kcat": 4.0,
+    "phosphatase_kcat": 2.5,
+}
 
 
 def brute_force_mass_action(r: float, km1: float, km2: float, readout: str) -> float:
@@ -70,8 +75,10 @@ def brute_force_mass_action(r: float, km1: float, km2: float, readout: str) -> f
     Exact steady-state relations C1 = E1 A/(M1 + A), C2 = E2 B/(M2 + B), v = k1 C1 = k2 C2
     (Michaelis-Menten complexes at steady state) and conservation A + B + C1 + C2 = W.
     """
-    w, e2, k1, k2 = (KNOWN[k] for k in ("substrate_total", "phosphatase_total", "kinase_kcat",
-                                         "phosphatase_kcat"))
+    w, e2, k1, k2 = (
+        KNOWN[k]
+        for k in ("substrate_total", "phosphatase_total", "kinase_kcat", "phosphatase_kcat")
+    )
     v2 = k2 * e2
     e1 = r * v2 / k1
     v1 = k1 * e1
@@ -107,8 +114,12 @@ def test_mass_action_with_scarce_enzymes_approaches_quasi_steady():
 
 
 def test_zero_input_gives_the_bottom_without_warnings():
-    for model in (HillModel(), MichaelianModel(), QuasiSteadyModel("ratio"),
-                  MassActionModel(KNOWN, "total_modified", "ratio")):
+    for model in (
+        HillModel(),
+        MichaelianModel(),
+        QuasiSteadyModel("ratio"),
+        MassActionModel(KNOWN, "total_modified", "ratio"),
+    ):
         theta = np.concatenate([np.full(model.n_shape, 0.5), [0.03, 0.9]])
         assert model.predict(theta, np.array([0.0]))[0] == pytest.approx(0.03, abs=1e-15)
 
@@ -136,7 +147,8 @@ def test_quasi_steady_derived_steepness_is_the_closed_form():
 
 def test_mass_action_derived_uses_the_known_cycle():
     d = MassActionModel(KNOWN, "total_modified", "ratio").derived(
-        {"kinase_km": 0.2, "phosphatase_km": 0.4})
+        {"kinase_km": 0.2, "phosphatase_km": 0.4}
+    )
     assert d["K1"] == pytest.approx(0.1) and d["K2"] == pytest.approx(0.2)
     r50 = d["activity_ratio_50"]
     assert brute_force_mass_action(r50, 0.2, 0.4, "total_modified") == pytest.approx(0.5, rel=1e-8)
@@ -145,18 +157,33 @@ def test_mass_action_derived_uses_the_known_cycle():
 def test_build_model_names_and_errors():
     assert {build_model(m, cycle=KNOWN).name for m in FIT_MODELS} == set(FIT_MODELS)
     assert build_model("quasi_steady", "amount").parameter_names == (
-        "K1", "K2", "input_scale", "bottom", "top")
+        "K1",
+        "K2",
+        "input_scale",
+        "bottom",
+        "top",
+    )
     assert HillModel().parameter_names == ("ec50", "hill_coefficient", "bottom", "top")
     with pytest.raises(ValueError, match="model"):
         build_model("logistic")
     with pytest.raises(ValueError, match="known totals"):
         build_model("mass_action")
     with pytest.raises(ValueError, match="kinase_kcat"):
-        build_model("mass_action", cycle={"substrate_total": 1, "phosphatase_total": 1,
-                                          "phosphatase_kcat": 1})
+        build_model(
+            "mass_action",
+            cycle={"substrate_total": 1, "phosphatase_total": 1, "phosphatase_kcat": 1},
+        )
     with pytest.raises(ValueError, match="phosphatase_total"):
         build_model("mass_action", cycle=dict(KNOWN, phosphatase_total=-1.0))
-    cycle = Cycle(substrate_total=1, kinase_total=0.1, kinase_kcat=1, kinase_km=0.1,
-                  kinase_kon=100, phosphatase_total=0.1, phosphatase_kcat=1,
-                  phosphatase_km=0.1, phosphatase_kon=100)
+    cycle = Cycle(
+        substrate_total=1,
+        kinase_total=0.1,
+        kinase_kcat=1,
+        kinase_km=0.1,
+        kinase_kon=100,
+        phosphatase_total=0.1,
+        phosphatase_kcat=1,
+        phosphatase_km=0.1,
+        phosphatase_kon=100,
+    )
     assert build_model("mass_action", cycle=cycle).known["substrate_total"] == 1.0

@@ -42,40 +42,74 @@ def register(subparsers: Any) -> None:
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("data", metavar="DATA.csv", help="dose-response CSV file")
-    parser.add_argument("--model", choices=FIT_MODELS, default="hill",
-                        help="model to fit (default: hill)")
-    parser.add_argument("--input-kind", choices=("ratio", "amount"),
-                        help="what the input column holds if the file does not say: the "
-                             "activity ratio V1/V2, or an amount in any unit (the cycle models "
-                             "then fit a scale factor); default ratio")
+    parser.add_argument(
+        "--model", choices=FIT_MODELS, default="hill", help="model to fit (default: hill)"
+    )
+    parser.add_argument(
+        "--input-kind",
+        choices=("ratio", "amount"),
+        help="what the input column holds if the file does not say: the "
+        "activity ratio V1/V2, or an amount in any unit (the cycle models "
+        "then fit a scale factor); default ratio",
+    )
     parser.add_argument("--input-unit", help="unit of the input, if the file does not declare it")
-    parser.add_argument("--readout-unit",
-                        help="unit of the readout, if the file does not declare it")
-    parser.add_argument("--fix", action="append", default=[], metavar="NAME=VALUE",
-                        help="hold a parameter at a value, e.g. --fix bottom=0 (repeatable)")
-    parser.add_argument("--bootstrap", type=int, metavar="N",
-                        help="residual-bootstrap percentile intervals from N replicates instead "
-                             "of profile likelihood")
-    parser.add_argument("--seed", type=int, default=0,
-                        help="seed of the bootstrap resampling (default 0)")
-    parser.add_argument("--confidence", type=float, default=0.95,
-                        help="interval level (default 0.95)")
-    parser.add_argument("--absolute-sd", action="store_true",
-                        help="take the sd column as the true measurement error (chi-square "
-                             "statistics) rather than relative weights")
+    parser.add_argument(
+        "--readout-unit", help="unit of the readout, if the file does not declare it"
+    )
+    parser.add_argument(
+        "--fix",
+        action="append",
+        default=[],
+        metavar="NAME=VALUE",
+        help="hold a parameter at a value, e.g. --fix bottom=0 (repeatable)",
+    )
+    parser.add_argument(
+        "--bootstrap",
+        type=int,
+        metavar="N",
+        help="residual-bootstrap percentile intervals from N replicates instead "
+        "of profile likelihood",
+    )
+    parser.add_argument(
+        "--seed", type=int, default=0, help="seed of the bootstrap resampling (default 0)"
+    )
+    parser.add_argument(
+        "--confidence", type=float, default=0.95, help="interval level (default 0.95)"
+    )
+    parser.add_argument(
+        "--absolute-sd",
+        action="store_true",
+        help="take the sd column as the true measurement error (chi-square "
+        "statistics) rather than relative weights",
+    )
     compare = parser.add_mutually_exclusive_group()
-    compare.add_argument("--compare", metavar="MODEL[,MODEL]",
-                         help="models compared by AICc (default: michaelian,hill)")
+    compare.add_argument(
+        "--compare",
+        metavar="MODEL[,MODEL]",
+        help="models compared by AICc (default: michaelian,hill)",
+    )
     compare.add_argument("--no-compare", action="store_true", help="skip the model comparison")
-    parser.add_argument("--cycle", metavar="SNAPSHOT.json",
-                        help="snapshot whose cycle supplies the known values (mass_action) and "
-                             "the substrate total for reporting the fitted cycle")
+    parser.add_argument(
+        "--cycle",
+        metavar="SNAPSHOT.json",
+        help="snapshot whose cycle supplies the known values (mass_action) and "
+        "the substrate total for reporting the fitted cycle",
+    )
     for key, option in _KNOWN_OPTIONS.items():
-        parser.add_argument(option, type=float, dest=key, metavar="VALUE",
-                            help=f"known {key.replace('_', ' ')} (mass_action)")
-    parser.add_argument("--readout", choices=READOUTS, default="total_modified",
-                        help="what the assay measures in the mass_action model (default "
-                             "total_modified: modified substrate including enzyme complexes)")
+        parser.add_argument(
+            option,
+            type=float,
+            dest=key,
+            metavar="VALUE",
+            help=f"known {key.replace('_', ' ')} (mass_action)",
+        )
+    parser.add_argument(
+        "--readout",
+        choices=READOUTS,
+        default="total_modified",
+        help="what the assay measures in the mass_action model (default "
+        "total_modified: modified substrate including enzyme complexes)",
+    )
     parser.set_defaults(func=run)
 
 
@@ -115,8 +149,11 @@ def _known_cycle(args: argparse.Namespace) -> Cycle | dict[str, float] | None:
     if args.model == "mass_action":
         missing = [_KNOWN_OPTIONS[k] for k in KNOWN_CYCLE_KEYS if k not in explicit]
         if missing:
-            msg = ("the mass_action model needs the known values "
-                   + ", ".join(missing) + " (or --cycle SNAPSHOT.json)")
+            msg = (
+                "the mass_action model needs the known values "
+                + ", ".join(missing)
+                + " (or --cycle SNAPSHOT.json)"
+            )
             raise UserError(msg)
     return explicit
 
@@ -134,8 +171,10 @@ def run(args: argparse.Namespace) -> int:
         raise UserError(msg)
     cycle = _known_cycle(args)
     if args.model == "mass_action" and cycle is None:
-        msg = ("the mass_action model needs the known totals and turnover numbers: give "
-               "--cycle SNAPSHOT.json or " + ", ".join(_KNOWN_OPTIONS.values()))
+        msg = (
+            "the mass_action model needs the known totals and turnover numbers: give "
+            "--cycle SNAPSHOT.json or " + ", ".join(_KNOWN_OPTIONS.values())
+        )
         raise UserError(msg)
     if args.no_compare:
         compare: tuple[str, ...] = ()
@@ -147,8 +186,12 @@ def run(args: argparse.Namespace) -> int:
             raise UserError(msg)
     else:
         compare = DEFAULT_COMPARISON
-    data = load_data(args.data, input_kind=args.input_kind, input_unit=args.input_unit,
-                     readout_unit=args.readout_unit)
+    data = load_data(
+        args.data,
+        input_kind=args.input_kind,
+        input_unit=args.input_unit,
+        readout_unit=args.readout_unit,
+    )
     result = fit_dose_response(
         data,
         args.model,

@@ -231,8 +231,11 @@ def _check_arrays(
             bad |= ~(arr > 0.0)
         if np.any(bad):
             i = int(np.flatnonzero(bad)[0])
-            need = {"nonneg": "a finite number >= 0", "finite": "a finite number",
-                    "positive": "a finite number > 0"}[rule]
+            need = {
+                "nonneg": "a finite number >= 0",
+                "finite": "a finite number",
+                "positive": "a finite number > 0",
+            }[rule]
             msg = f"{where}{label} {rows[i]}, column '{name}': {arr[i]!r} is not {need}"
             raise ValueError(msg)
     if np.all(y == y[0]):
@@ -249,8 +252,8 @@ def as_dose_response_data(data: Any) -> DoseResponseData:
         return data
     if isinstance(data, Mapping):
         unknown = sorted(
-            set(data) - {"input", "readout", "sd", "replicate", "input_kind", "input_unit",
-                         "readout_unit"}
+            set(data)
+            - {"input", "readout", "sd", "replicate", "input_kind", "input_unit", "readout_unit"}
         )
         if unknown:
             msg = f"`data` has unknown key '{unknown[0]}'"

@@ -161,8 +161,12 @@ class MichaelianModel(ShapeModel):
 
     def derived(self, values: Mapping[str, float]) -> dict[str, float | None]:  # noqa: D102
         ec50 = values["ec50"]
-        return {"ec10": ec50 / 9.0, "ec90": ec50 * 9.0, "response_coefficient": 81.0,
-                "hill_coefficient": 1.0}
+        return {
+            "ec10": ec50 / 9.0,
+            "ec90": ec50 * 9.0,
+            "response_coefficient": 81.0,
+            "hill_coefficient": 1.0,
+        }
 
 
 class HillModel(ShapeModel):
@@ -219,8 +223,9 @@ class QuasiSteadyModel(ShapeModel):
             ParameterSpec("K2", "1", "phosphatase Michaelis constant over total substrate, M2/W"),
         ]
         if input_kind == "amount":
-            specs.append(ParameterSpec("input_scale", "1/input",
-                                       "activity ratio V1/V2 per unit input"))
+            specs.append(
+                ParameterSpec("input_scale", "1/input", "activity ratio V1/V2 per unit input")
+            )
         self.shape_specs = tuple(specs)
 
     def ratio(self, phi: FloatArray, x: FloatArray) -> FloatArray:
@@ -291,8 +296,7 @@ class MassActionModel(ShapeModel):
         if missing:
             msg = (
                 f"the mass_action model needs the known cycle value `{missing[0]}` "
-                f"({CYCLE_UNITS[missing[0]]}); give a cycle with "
-                + ", ".join(KNOWN_CYCLE_KEYS)
+                f"({CYCLE_UNITS[missing[0]]}); give a cycle with " + ", ".join(KNOWN_CYCLE_KEYS)
             )
             raise ValueError(msg)
         self.known = {k: check_positive(k, values[k]) for k in KNOWN_CYCLE_KEYS}
@@ -302,8 +306,9 @@ class MassActionModel(ShapeModel):
             ParameterSpec("phosphatase_km", "uM", "phosphatase Michaelis constant M2"),
         ]
         if input_kind == "amount":
-            specs.append(ParameterSpec("input_scale", "1/input",
-                                       "activity ratio V1/V2 per unit input"))
+            specs.append(
+                ParameterSpec("input_scale", "1/input", "activity ratio V1/V2 per unit input")
+            )
         self.shape_specs = tuple(specs)
 
     @property
@@ -366,8 +371,12 @@ class MassActionModel(ShapeModel):
         for relative in (False, True):
             th = thresholds(params, "mass_action", self.readout, relative=relative)
             prefix = "relative_" if relative else ""
-            for key in ("activity_ratio_10", "activity_ratio_50", "activity_ratio_90",
-                        "hill_coefficient"):
+            for key in (
+                "activity_ratio_10",
+                "activity_ratio_50",
+                "activity_ratio_90",
+                "hill_coefficient",
+            ):
                 value = float(th[key])
                 out[prefix + key] = value if math.isfinite(value) else None
         return out

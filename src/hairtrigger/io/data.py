@@ -96,7 +96,10 @@ def load_data(
     p = Path(path)
     raw = p.read_bytes()
     return parse_data(
-        raw, source=p.name, input_kind=input_kind, input_unit=input_unit,
+        raw,
+        source=p.name,
+        input_kind=input_kind,
+        input_unit=input_unit,
         readout_unit=readout_unit,
     )
 
@@ -140,9 +143,7 @@ def _decode(raw: bytes, source: str) -> str:
 def _column_at(body: bytes, line_start: int, position: int) -> str | None:
     """Header name of the cell containing byte `position`, if the header decodes."""
     prefix = body[:line_start].decode("utf-8", errors="replace").splitlines()
-    header = next(
-        (ln for ln in prefix if ln.strip() and not ln.lstrip().startswith("#")), None
-    )
+    header = next((ln for ln in prefix if ln.strip() and not ln.lstrip().startswith("#")), None)
     if header is None:
         return None
     delimiter = _delimiter(header)
@@ -211,8 +212,9 @@ class _Parser:
             header_row = number
             break
         if header_row == 0:
-            raise self.fail("no header line (expected 'input,readout' after the comments)",
-                            len(lines))
+            raise self.fail(
+                "no header line (expected 'input,readout' after the comments)", len(lines)
+            )
         header_line = lines[header_row - 1]
         delimiter = _delimiter(header_line)
         columns, header_units = self._header(header_line, delimiter, header_row)
@@ -224,12 +226,13 @@ class _Parser:
             if not line.strip() or line.lstrip().startswith("#"):
                 continue
             values = self._cells(line, delimiter, number)
-            if len(values) > len(columns) and not any(v.strip() for v in values[len(columns):]):
+            if len(values) > len(columns) and not any(v.strip() for v in values[len(columns) :]):
                 values = values[: len(columns)]
             if len(values) != len(columns):
                 raise self.fail(
                     f"{len(values)} cells but the header (row {header_row}) has "
-                    f"{len(columns)} columns", number
+                    f"{len(columns)} columns",
+                    number,
                 )
             for name, value in zip(columns, values, strict=True):
                 cells[name].append(value.strip())
@@ -243,35 +246,46 @@ class _Parser:
         if np.all(y == y[0]):
             raise self.fail(
                 f"all {len(rows)} readouts are equal ({y[0]:g}, rows {rows[0]}-{rows[-1]}); a "
-                "flat response has nothing to fit", None, "readout"
+                "flat response has nothing to fit",
+                None,
+                "readout",
             )
 
         kind = self._resolve("input_kind", input_kind, metadata, metadata_rows, None)
         if kind is not None and kind.lower() not in INPUT_KINDS:
             row = metadata_rows.get("input_kind")
             raise self.fail(
-                f"input_kind must be 'ratio' or 'amount'; got {kind!r}", row,
+                f"input_kind must be 'ratio' or 'amount'; got {kind!r}",
+                row,
                 None if row else "input",
             )
         kind = None if kind is None else kind.lower()
-        in_unit = self._resolve("input_unit", input_unit, metadata, metadata_rows,
-                                (header_units.get("input"), header_row))
+        in_unit = self._resolve(
+            "input_unit",
+            input_unit,
+            metadata,
+            metadata_rows,
+            (header_units.get("input"), header_row),
+        )
         ratio_units = (None, "1", "", "ratio", "dimensionless")
-        out_unit = self._resolve("readout_unit", readout_unit, metadata, metadata_rows,
-                                 (header_units.get("readout"), header_row))
+        out_unit = self._resolve(
+            "readout_unit",
+            readout_unit,
+            metadata,
+            metadata_rows,
+            (header_units.get("readout"), header_row),
+        )
         if kind == "ratio" and in_unit not in ratio_units:
             raise self.fail(
                 f"input_kind is 'ratio' (dimensionless) but the input unit is {in_unit!r}; use "
-                "input_kind 'amount' for a dose in units", metadata_rows.get("input_unit",
-                                                                             header_row),
+                "input_kind 'amount' for a dose in units",
+                metadata_rows.get("input_unit", header_row),
                 "input",
             )
         if kind is None and in_unit not in ratio_units:
             kind = "amount"  # a dose with a unit is an amount, not an activity ratio
         resolved_kind = kind or "ratio"
-        extra = {
-            name: tuple(values) for name, values in cells.items() if name not in KNOWN_COLUMNS
-        }
+        extra = {name: tuple(values) for name, values in cells.items() if name not in KNOWN_COLUMNS}
         return DoseResponseData(
             input=x,
             readout=y,
@@ -288,9 +302,7 @@ class _Parser:
             extra_columns=extra,
         )
 
-    def _header(
-        self, line: str, delimiter: str, row: int
-    ) -> tuple[list[str], dict[str, str]]:
+    def _header(self, line: str, delimiter: str, row: int) -> tuple[list[str], dict[str, str]]:
         raw = self._cells(line, delimiter, row)
         while raw and not raw[-1].strip():
             raw.pop()
@@ -299,8 +311,7 @@ class _Parser:
         for position, cell in enumerate(raw, start=1):
             name, unit = _split_unit(cell)
             if not name:
-                raise self.fail(f"header cell {position} is empty; every column needs a name",
-                                row)
+                raise self.fail(f"header cell {position} is empty; every column needs a name", row)
             if name in names:
                 raise self.fail(f"column '{name}' appears twice in the header", row, name)
             names.append(name)
@@ -311,7 +322,9 @@ class _Parser:
             found = ", ".join(repr(n) for n in names)
             raise self.fail(
                 f"missing column '{missing[0]}' (the header has {found}; required: input, "
-                "readout; optional: sd, replicate)", row, missing[0]
+                "readout; optional: sd, replicate)",
+                row,
+                missing[0],
             )
         return names, units
 
@@ -327,7 +340,9 @@ class _Parser:
         out = np.empty(len(rows))
         for i, (row, text) in enumerate(zip(rows, cells[column], strict=True)):
             if not text:
-                extra = " (when the sd column is present every row needs one)" if column == "sd" else ""
+                extra = (
+                    " (when the sd column is present every row needs one)" if column == "sd" else ""
+                )
                 raise self.fail(f"empty cell{extra}", row, column)
             if not _NUMBER.match(text):
                 if text.lower().lstrip("+-") in ("nan", "inf", "infinity", "na", "n/a"):
@@ -340,8 +355,9 @@ class _Parser:
             if minimum == "nonneg" and value < 0.0:
                 raise self.fail(f"{text} is negative; inputs must be >= 0", row, column)
             if minimum == "positive" and value <= 0.0:
-                raise self.fail(f"{text} is not > 0; a standard deviation must be positive",
-                                row, column)
+                raise self.fail(
+                    f"{text} is not > 0; a standard deviation must be positive", row, column
+                )
             out[i] = value
         return out
 
