@@ -8,14 +8,23 @@ import sys
 from pathlib import Path
 
 from ..core.params import MODELS, READOUTS
+from ..io.examples import example_path, list_examples
 from ..io.files import atomic_write
 from ..io.snapshot import Snapshot, load_snapshot
 from . import UserError
 
+#: ``FILE`` arguments starting with this name a bundled example instead of a file.
+EXAMPLE_PREFIX = "example:"
+
 
 def add_snapshot_arguments(parser: argparse.ArgumentParser) -> None:
     """Add the ``FILE`` argument and the ``--model``/``--readout`` overrides."""
-    parser.add_argument("file", metavar="FILE", help="snapshot file (.json, as written by hairtrigger)")
+    parser.add_argument(
+        "file",
+        metavar="FILE",
+        help=f"snapshot file (.json), or {EXAMPLE_PREFIX}NAME for a bundled example "
+        f"({', '.join(list_examples())})",
+    )
     parser.add_argument(
         "--model",
         choices=MODELS,
@@ -32,7 +41,15 @@ def add_snapshot_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def read_snapshot(path: str) -> Snapshot:
-    """Load a snapshot named on the command line; file-system errors become one clean line."""
+    """Load a snapshot named on the command line; file-system errors become one clean line.
+
+    ``example:NAME`` loads the bundled example NAME (`hairtrigger.io.list_examples`).
+    """
+    if path.startswith(EXAMPLE_PREFIX):
+        try:
+            return load_snapshot(example_path(path.removeprefix(EXAMPLE_PREFIX)))
+        except ValueError as exc:
+            raise UserError(str(exc)) from None
     try:
         return load_snapshot(path)
     except FileNotFoundError:

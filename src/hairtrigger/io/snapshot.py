@@ -147,8 +147,12 @@ def _describe(value: Any) -> str:
     if isinstance(value, str):
         shown = value if len(value) <= 40 else value[:37] + "..."
         return f"{json.dumps(shown, ensure_ascii=False)} (a string)"
+    if isinstance(value, numbers.Integral):
+        return repr(int(value))
+    if isinstance(value, numbers.Real):
+        return repr(float(value))
     if isinstance(value, numbers.Number):
-        return repr(value if not isinstance(value, numbers.Real) else float(value))
+        return repr(value)
     if isinstance(value, Mapping):
         return "an object"
     if isinstance(value, list | tuple):
@@ -208,7 +212,7 @@ def _check_positive(field: str, key: str, value: Any) -> float:
     if not math.isfinite(number):
         _fail(field, f"must be {allowed}; got {number!r} (too large for a 64-bit float)")
     if number <= 0.0:
-        _fail(field, f"must be {allowed}; got {number!r}")
+        _fail(field, f"must be {allowed}; got {_describe(value)}")
     return number
 
 
