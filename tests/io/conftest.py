@@ -6,10 +6,11 @@ import copy
 from typing import Any
 
 import pytest
+from snapshot_cases import CYCLE_VALUES, GOOD_DOCUMENT
 
 from hairtrigger.core.params import Cycle
 from hairtrigger.io import Snapshot
-from snapshot_cases import CYCLE_VALUES, GOOD_DOCUMENT
+
 
 @pytest.fixture
 def cycle() -> Cycle:

@@ -11,6 +11,7 @@ from typing import Any
 
 import jsonschema
 import pytest
+from snapshot_cases import GOOD_DOCUMENT
 
 from hairtrigger.core.params import CYCLE_KEYS
 from hairtrigger.io import (
@@ -21,8 +22,6 @@ from hairtrigger.io import (
     snapshot_from_dict,
     snapshot_schema,
 )
-
-from snapshot_cases import GOOD_DOCUMENT
 
 DELETE = object()
 
@@ -57,8 +56,14 @@ FIELD_CASES: list[tuple[str, tuple[str, ...], Any, str, str, str | None]] = [
     ("version-string", ("version",), "1", "version", "must be an integer", None),
     ("version-bool", ("version",), True, "version", "must be an integer; got true", None),
     ("version-fraction", ("version",), 1.5, "version", "must be an integer", None),
-    ("version-newer", ("version",), 2, "version",
-     "written by a newer hairtrigger; version 2 > 1", None),
+    (
+        "version-newer",
+        ("version",),
+        2,
+        "version",
+        "written by a newer hairtrigger; version 2 > 1",
+        None,
+    ),
     ("version-much-newer", ("version",), 17, "version", "version 17 > 1", None),
     ("version-zero", ("version",), 0, "version", "unknown snapshot version 0", None),
     ("version-negative", ("version",), -3, "version", "unknown snapshot version -3", None),
@@ -71,35 +76,88 @@ FIELD_CASES: list[tuple[str, tuple[str, ...], Any, str, str, str | None]] = [
     ("created-number", ("created",), 20250115, "created", "ISO 8601", None),
     ("created-words", ("created",), "yesterday", "created", "ISO 8601", None),
     ("created-space", ("created",), "2025-01-15 09:00", "created", "ISO 8601", None),
-    ("created-month-13", ("created",), "2025-13-01", "created", "not a real calendar date",
-     "a pattern cannot check the calendar"),
-    ("created-feb-30", ("created",), "2025-02-30T10:00:00Z", "created", "calendar",
-     "a pattern cannot check the calendar"),
+    (
+        "created-month-13",
+        ("created",),
+        "2025-13-01",
+        "created",
+        "not a real calendar date",
+        "a pattern cannot check the calendar",
+    ),
+    (
+        "created-feb-30",
+        ("created",),
+        "2025-02-30T10:00:00Z",
+        "created",
+        "calendar",
+        "a pattern cannot check the calendar",
+    ),
     ("model-missing", ("model",), DELETE, "model", "missing", None),
-    ("model-unknown", ("model",), "michaelis_menten", "model", '"quasi_steady", "mass_action"',
-     None),
+    (
+        "model-unknown",
+        ("model",),
+        "michaelis_menten",
+        "model",
+        '"quasi_steady", "mass_action"',
+        None,
+    ),
     ("model-number", ("model",), 1, "model", "must be one of", None),
     ("readout-missing", ("readout",), DELETE, "readout", "missing", None),
-    ("readout-unknown", ("readout",), "modified", "readout",
-     '"free_modified", "total_modified"', None),
+    (
+        "readout-unknown",
+        ("readout",),
+        "modified",
+        "readout",
+        '"free_modified", "total_modified"',
+        None,
+    ),
     ("units-missing", ("units",), DELETE, "units", "missing", None),
     ("units-string", ("units",), "uM", "units", "must be the object", None),
-    ("units-concentration-missing", ("units", "concentration"), DELETE, "units.concentration",
-     "missing", None),
-    ("units-nanomolar", ("units", "concentration"), "nM", "units.concentration",
-     'only "uM" is supported; got "nM"', None),
-    ("units-micro-sign", ("units", "concentration"), "µM", "units.concentration",
-     'only "uM" is supported', None),
+    (
+        "units-concentration-missing",
+        ("units", "concentration"),
+        DELETE,
+        "units.concentration",
+        "missing",
+        None,
+    ),
+    (
+        "units-nanomolar",
+        ("units", "concentration"),
+        "nM",
+        "units.concentration",
+        'only "uM" is supported; got "nM"',
+        None,
+    ),
+    (
+        "units-micro-sign",
+        ("units", "concentration"),
+        "µM",
+        "units.concentration",
+        'only "uM" is supported',
+        None,
+    ),
     ("units-minutes", ("units", "time"), "min", "units.time", 'only "s" is supported', None),
     ("units-time-missing", ("units", "time"), DELETE, "units.time", "missing", None),
-    ("units-extra-kind", ("units", "energy"), "kJ", "units.energy", "unknown kind of unit",
-     None),
+    ("units-extra-kind", ("units", "energy"), "kJ", "units.energy", "unknown kind of unit", None),
     ("cycle-missing", ("cycle",), DELETE, "cycle", "missing", None),
     ("cycle-list", ("cycle",), [1, 2], "cycle", "must be an object", None),
-    ("cycle-unknown-key", ("cycle", "kinase_kd"), 0.5, "cycle.kinase_kd",
-     "unknown cycle parameter", None),
-    ("cycle-close-unknown-key", ("cycle", "kinase_kcats"), 0.5, "cycle.kinase_kcats",
-     'did you mean "kinase_kcat"', None),
+    (
+        "cycle-unknown-key",
+        ("cycle", "kinase_kd"),
+        0.5,
+        "cycle.kinase_kd",
+        "unknown cycle parameter",
+        None,
+    ),
+    (
+        "cycle-close-unknown-key",
+        ("cycle", "kinase_kcats"),
+        0.5,
+        "cycle.kinase_kcats",
+        'did you mean "kinase_kcat"',
+        None,
+    ),
 ]
 
 BAD_NUMBERS: list[tuple[str, Any, str]] = [
@@ -161,7 +219,7 @@ def test_message_format_of_the_documented_example() -> None:
 
 
 def test_first_bad_field_wins_in_contract_order() -> None:
-    document = mutated(("model", ), "nonsense")
+    document = mutated(("model",), "nonsense")
     document["cycle"]["kinase_km"] = -1.0
     document["title"] = 3
     with pytest.raises(SnapshotError) as info:
@@ -193,26 +251,61 @@ RAW_CASES: list[tuple[str, bytes, str, str | None]] = [
     ("top-string", b'"hairtrigger.snapshot"', "must be a JSON object; got", None),
     ("top-number", b"42", "must be a JSON object; got 42", None),
     ("top-null", b"null", "must be a JSON object; got null", None),
-    ("invalid-utf8", GOOD_TEXT.replace("test cycle", "test \udcff").encode(
-        "utf-8", "surrogateescape"), "not valid UTF-8 text: byte 0xff at line 4", None),
-    ("latin-1", GOOD_TEXT.replace("test cycle", "Kinase µ").encode("latin-1"),
-     "not valid UTF-8", None),
+    (
+        "invalid-utf8",
+        GOOD_TEXT.replace("test cycle", "test \udcff").encode("utf-8", "surrogateescape"),
+        "not valid UTF-8 text: byte 0xff at line 4",
+        None,
+    ),
+    (
+        "latin-1",
+        GOOD_TEXT.replace("test cycle", "Kinase µ").encode("latin-1"),
+        "not valid UTF-8",
+        None,
+    ),
     ("utf-16", GOOD_TEXT.encode("utf-16"), "UTF-16", None),
-    ("nan-token", GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": NaN').encode(),
-     "the token NaN is not valid JSON", None),
-    ("infinity-token", GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": Infinity').encode(),
-     "the token Infinity is not valid JSON", None),
-    ("minus-infinity-token",
-     GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": -Infinity').encode(),
-     "the token -Infinity is not valid JSON", None),
-    ("nan-in-extras", GOOD_TEXT.replace('"format"', '"view": {"zoom": NaN},\n  "format"').encode(),
-     "the token NaN", None),
-    ("duplicate-key", GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": 0.1, "kinase_km": 5')
-     .encode(), 'the key "kinase_km" appears twice', None),
-    ("deeply-nested", b'{"deep": ' + b"[" * 100_000 + b"]" * 100_000 + b"}", "nested too deeply",
-     None),
-    ("huge-integer", GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": ' + "9" * 5000).encode(),
-     "not valid JSON for a snapshot", None),
+    (
+        "nan-token",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": NaN').encode(),
+        "the token NaN is not valid JSON",
+        None,
+    ),
+    (
+        "infinity-token",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": Infinity').encode(),
+        "the token Infinity is not valid JSON",
+        None,
+    ),
+    (
+        "minus-infinity-token",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": -Infinity').encode(),
+        "the token -Infinity is not valid JSON",
+        None,
+    ),
+    (
+        "nan-in-extras",
+        GOOD_TEXT.replace('"format"', '"view": {"zoom": NaN},\n  "format"').encode(),
+        "the token NaN",
+        None,
+    ),
+    (
+        "duplicate-key",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": 0.1, "kinase_km": 5').encode(),
+        'the key "kinase_km" appears twice',
+        None,
+    ),
+    (
+        "deeply-nested",
+        b'{"deep": ' + b"[" * 100_000 + b"]" * 100_000 + b"}",
+        "nested too deeply",
+        None,
+    ),
+    (
+        "huge-integer",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": ' + "9" * 5000).encode(),
+        "not valid JSON for a snapshot",
+        None,
+    ),
 ]
 
 
@@ -241,14 +334,34 @@ def test_json_errors_carry_line_and_column() -> None:
 # (id, raw text, field, fragment, what the schema misses)
 LOADER_ONLY_TEXT: list[tuple[str, str, str, str, str]] = [
     # Python's json turns an out-of-range literal into inf; jsonschema then sees a number > 0.
-    ("overflowing-number", GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": 1e400'),
-     "cycle.kinase_km", "too large for a 64-bit float", "inf passes exclusiveMinimum"),
-    ("overflowing-extra", GOOD_TEXT.replace('"format"', '"view": {"zoom": -1e999},\n  "format"'),
-     "view.zoom", "must be a finite number", "extras are free-form"),
-    ("lone-surrogate", GOOD_TEXT.replace('"test cycle"', '"test \\ud800 cycle"'), "title",
-     "unpaired surrogate U+D800", "a lone surrogate is a valid JSON string escape"),
-    ("created-trailing-newline", GOOD_TEXT.replace('00:00"', '00:00\\n"'), "created",
-     "ISO 8601", "Python's re.search lets $ match before a final newline"),
+    (
+        "overflowing-number",
+        GOOD_TEXT.replace('"kinase_km": 0.1', '"kinase_km": 1e400'),
+        "cycle.kinase_km",
+        "too large for a 64-bit float",
+        "inf passes exclusiveMinimum",
+    ),
+    (
+        "overflowing-extra",
+        GOOD_TEXT.replace('"format"', '"view": {"zoom": -1e999},\n  "format"'),
+        "view.zoom",
+        "must be a finite number",
+        "extras are free-form",
+    ),
+    (
+        "lone-surrogate",
+        GOOD_TEXT.replace('"test cycle"', '"test \\ud800 cycle"'),
+        "title",
+        "unpaired surrogate U+D800",
+        "a lone surrogate is a valid JSON string escape",
+    ),
+    (
+        "created-trailing-newline",
+        GOOD_TEXT.replace('00:00"', '00:00\\n"'),
+        "created",
+        "ISO 8601",
+        "Python's re.search lets $ match before a final newline",
+    ),
 ]
 
 

@@ -11,13 +11,14 @@ import struct
 import subprocess
 import sys
 import tempfile
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from typing import Any
 
 import jsonschema
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from snapshot_cases import GOOD_DOCUMENT
 
 import hairtrigger
 from hairtrigger.core.params import CYCLE_KEYS, MODELS, READOUTS, Cycle
@@ -33,7 +34,6 @@ from hairtrigger.io import (
     snapshot_to_dict,
 )
 from hairtrigger.io.snapshot import _ISO_8601, MIGRATIONS, RESERVED_KEYS
-from snapshot_cases import GOOD_DOCUMENT
 
 SRC = pathlib.Path(__file__).resolve().parents[2] / "src"
 
@@ -49,11 +49,15 @@ json_scalars = (
 )
 json_values = st.recursive(
     json_scalars,
-    lambda inner: st.lists(inner, max_size=4) | st.dictionaries(st.text(max_size=8), inner, max_size=4),
+    lambda inner: (
+        st.lists(inner, max_size=4) | st.dictionaries(st.text(max_size=8), inner, max_size=4)
+    ),
     max_leaves=12,
 )
 extra_blocks = st.dictionaries(
-    st.text(min_size=1, max_size=12).filter(lambda k: k not in RESERVED_KEYS), json_values, max_size=3
+    st.text(min_size=1, max_size=12).filter(lambda k: k not in RESERVED_KEYS),
+    json_values,
+    max_size=3,
 )
 
 
@@ -73,8 +77,16 @@ def snapshots(draw: st.DrawFn) -> Snapshot:
         readout=draw(st.sampled_from(READOUTS)),
         title=draw(st.text(max_size=30)),
         notes=draw(st.text(max_size=60)),
-        created=draw(st.sampled_from(["2025-01-15", "2025-01-15T09:00:00+00:00",
-                                      "2024-02-29T23:59:59.123456Z", "1999-12-31T00:00"])),
+        created=draw(
+            st.sampled_from(
+                [
+                    "2025-01-15",
+                    "2025-01-15T09:00:00+00:00",
+                    "2024-02-29T23:59:59.123456Z",
+                    "1999-12-31T00:00",
+                ]
+            )
+        ),
         extras=draw(extra_blocks),
     )
 
@@ -104,7 +116,7 @@ def test_file_round_trip_is_exact(snapshot: Snapshot) -> None:
 @settings(max_examples=100, deadline=None)
 @given(snapshots())
 def test_every_saved_snapshot_satisfies_the_schema(snapshot: Snapshot) -> None:
-    jsonschema.validate(json.loads(dumps_snapshot(snapshot)), snapshot_schema())
+    VALIDATOR.validate(json.loads(dumps_snapshot(snapshot)))
 
 
 @pytest.mark.parametrize(
@@ -133,7 +145,9 @@ def test_version_written_as_float_one_is_accepted() -> None:
 
 
 def test_key_order_follows_the_contract(snapshot: Snapshot) -> None:
-    document = json.loads(dumps_snapshot(snapshot.replace(extras={"zeta": 1, "alpha": {"b": 1, "a": 2}})))
+    document = json.loads(
+        dumps_snapshot(snapshot.replace(extras={"zeta": 1, "alpha": {"b": 1, "a": 2}}))
+    )
     assert list(document) == [*RESERVED_KEYS, "alpha", "zeta"]
     assert list(document["cycle"]) == list(CYCLE_KEYS)
     assert list(document["units"]) == ["concentration", "time"]
@@ -205,9 +219,9 @@ def test_constructor_needs_a_cycle() -> None:
 
 
 def test_created_defaults_to_now_in_utc(cycle: Cycle) -> None:
-    before = datetime.now(timezone.utc).replace(microsecond=0)
+    before = datetime.now(UTC).replace(microsecond=0)
     created = datetime.fromisoformat(Snapshot(cycle).created)
-    after = datetime.now(timezone.utc)
+    after = datetime.now(UTC)
     assert created.tzinfo is not None
     assert before <= created <= after
 
@@ -222,7 +236,10 @@ def test_snapshot_error_pickles() -> None:
     error = SnapshotError("cycle.kinase_km", "must be positive", "f.json")
     back = pickle.loads(pickle.dumps(error))
     assert (back.field, back.problem, back.source, str(back)) == (
-        "cycle.kinase_km", "must be positive", "f.json", "f.json: cycle.kinase_km: must be positive"
+        "cycle.kinase_km",
+        "must be positive",
+        "f.json",
+        "f.json: cycle.kinase_km: must be positive",
     )
     assert isinstance(back, ValueError)
 
@@ -326,8 +343,9 @@ def test_loading_needs_no_jsonschema_nor_widgets() -> None:
         "print(sorted(bad))"
     )
     env = {"PYTHONPATH": str(SRC), "PATH": "/usr/bin:/bin"}
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env,
-                         check=True)
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, env=env, check=True
+    )
     assert out.stdout.strip() == "[]"
 
 
@@ -340,3 +358,37 @@ def test_nan_cannot_reach_the_file(snapshot: Snapshot, monkeypatch: pytest.Monke
     monkeypatch.setattr(module, "snapshot_to_dict", lambda s: document)
     with pytest.raises(ValueError, match="not JSON compliant"):
         dumps_snapshot(snapshot)
+
+
+# --- robustness: whatever the input, the answer is a Snapshot or a SnapshotError --------------
+
+
+def _outcome(payload: Any) -> str:
+    try:
+        loads_snapshot(payload)
+    except SnapshotError as exc:
+        assert "\n" not in str(exc)
+        return "refused"
+    return "accepted"
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.binary(max_size=200))
+def test_random_bytes_never_raise_anything_else(data: bytes) -> None:
+    _outcome(data)
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    place=st.sampled_from(["top", "units", "cycle", *(f"cycle.{k}" for k in CYCLE_KEYS)]),
+    value=json_values,
+)
+def test_random_documents_never_raise_anything_else(place: str, value: Any) -> None:
+    document = json.loads(json.dumps(GOOD_DOCUMENT))
+    if place == "top":
+        document = value
+    elif "." in place:
+        document["cycle"][place.split(".")[1]] = value
+    else:
+        document[place] = value
+    _outcome(json.dumps(document))

@@ -64,9 +64,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.add_argument(
         "--out", metavar="FILE.csv", default=None, help="write here instead of standard output"
     )
-    parser.add_argument(
-        "--force", action="store_true", help="replace an existing --out file"
-    )
+    parser.add_argument("--force", action="store_true", help="replace an existing --out file")
     parser.set_defaults(func=run)
 
 
@@ -98,7 +96,8 @@ def km_axis(cycle: Cycle, n: int, km_range: tuple[float, float]) -> FloatArray:
     low, high = km_range
     ratios = np.logspace(math.log10(low), math.log10(high), n)
     ratios[0], ratios[-1] = low, high  # exact end points, not 10**log10(x)
-    km = ratios * cycle.substrate_total
+    with np.errstate(over="ignore", under="ignore"):
+        km = ratios * cycle.substrate_total
     if not (np.all(np.isfinite(km)) and np.all(km > 0.0)):
         msg = (
             f"--km-range {low:g}:{high:g} times the substrate total {cycle.substrate_total:g} uM "

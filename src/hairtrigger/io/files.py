@@ -70,7 +70,9 @@ def _publish_new(temporary: Path, target: Path) -> None:
         os.replace(temporary, target)
 
 
-def atomic_write(path: str | os.PathLike[str], data: bytes | str, *, overwrite: bool = False) -> Path:
+def atomic_write(
+    path: str | os.PathLike[str], data: bytes | str, *, overwrite: bool = False
+) -> Path:
     """Write `data` to `path` atomically: the file ends up complete or not changed at all.
 
     Parameters

@@ -35,7 +35,7 @@ import stat
 import types
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import resources
 from pathlib import Path
 from typing import Any, Final, NoReturn
@@ -184,8 +184,8 @@ def _check_created(field: str, value: Any) -> str:
     if not _ISO_8601.fullmatch(value):
         _fail(
             field,
-            "must be an ISO 8601 date or date-time such as \"2025-01-15\" or "
-            f"\"2025-01-15T09:30:00+00:00\"; got {_describe(value)}",
+            'must be an ISO 8601 date or date-time such as "2025-01-15" or '
+            f'"2025-01-15T09:30:00+00:00"; got {_describe(value)}',
         )
     try:
         datetime.fromisoformat(value)
@@ -240,8 +240,11 @@ def _check_json_value(field: str, value: Any) -> Any:
         return copy
     if isinstance(value, list | tuple):
         return [_check_json_value(f"{field}[{i}]", item) for i, item in enumerate(value)]
-    _fail(field, f"must be a JSON value (object, list, string, number, boolean or null); "
-          f"got {_describe(value)}")
+    _fail(
+        field,
+        f"must be a JSON value (object, list, string, number, boolean or null); "
+        f"got {_describe(value)}",
+    )
 
 
 def _check_extras(extras: Any) -> dict[str, Any]:
@@ -259,7 +262,7 @@ def _check_extras(extras: Any) -> dict[str, Any]:
 
 
 def _utc_now() -> str:
-    return datetime.now(timezone.utc).replace(microsecond=0).isoformat()
+    return datetime.now(UTC).replace(microsecond=0).isoformat()
 
 
 # --- the snapshot object ---------------------------------------------------------------------
@@ -360,7 +363,10 @@ def _require(document: Mapping[str, Any], key: str, prefix: str = "") -> Any:
 
 def _check_format(document: Mapping[str, Any]) -> None:
     if "format" not in document:
-        _fail("format", f'missing; not a hairtrigger snapshot (expected "format": "{SNAPSHOT_FORMAT}")')
+        _fail(
+            "format",
+            f'missing; not a hairtrigger snapshot (expected "format": "{SNAPSHOT_FORMAT}")',
+        )
     if document["format"] != SNAPSHOT_FORMAT:
         _fail("format", f'must be "{SNAPSHOT_FORMAT}"; got {_describe(document["format"])}')
 
@@ -368,14 +374,15 @@ def _check_format(document: Mapping[str, Any]) -> None:
 def _check_version(document: Mapping[str, Any]) -> int:
     value = _require(document, "version")
     # JSON Schema counts 1.0 as an integer; so do we, so that the two agree.
-    if (
-        isinstance(value, bool)
-        or not isinstance(value, numbers.Real)
-        or not math.isfinite(float(value))
-        or not float(value).is_integer()
-    ):
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
         _fail("version", f"must be an integer; got {_describe(value)}")
-    version = int(value)
+    if isinstance(value, numbers.Integral):
+        version = int(value)
+    else:
+        number = float(value)
+        if not (math.isfinite(number) and number.is_integer()):
+            _fail("version", f"must be an integer; got {_describe(value)}")
+        version = int(number)
     if version > SNAPSHOT_VERSION:
         _fail(
             "version",
@@ -423,8 +430,10 @@ def _check_units(document: Mapping[str, Any]) -> None:
 def _check_cycle(document: Mapping[str, Any]) -> Cycle:
     block = _require(document, "cycle")
     if not isinstance(block, Mapping):
-        _fail("cycle", f"must be an object with the keys {', '.join(CYCLE_KEYS)}; "
-              f"got {_describe(block)}")
+        _fail(
+            "cycle",
+            f"must be an object with the keys {', '.join(CYCLE_KEYS)}; got {_describe(block)}",
+        )
     unknown = [key for key in block if key not in CYCLE_KEYS]
     values: dict[str, float] = {}
     for key in CYCLE_KEYS:
@@ -570,7 +579,9 @@ def dumps_snapshot(snapshot: Snapshot) -> str:
     Floats are written by ``repr``, so they read back bit for bit; NaN and infinity cannot
     occur (they are refused on the way in, and ``allow_nan=False`` guards the way out).
     """
-    return json.dumps(snapshot_to_dict(snapshot), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return (
+        json.dumps(snapshot_to_dict(snapshot), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    )
 
 
 # --- files -----------------------------------------------------------------------------------
