@@ -232,6 +232,14 @@ def test_snapshot_is_frozen_and_hashable(snapshot: Snapshot) -> None:
     assert hash(snapshot) == hash(snapshot.replace())
 
 
+def test_snapshot_pickles_and_deep_copies(snapshot: Snapshot) -> None:
+    import copy
+
+    for clone in (pickle.loads(pickle.dumps(snapshot)), copy.deepcopy(snapshot)):
+        assert clone == snapshot
+        assert isinstance(clone.extras, type(snapshot.extras))
+
+
 def test_snapshot_error_pickles() -> None:
     error = SnapshotError("cycle.kinase_km", "must be positive", "f.json")
     back = pickle.loads(pickle.dumps(error))

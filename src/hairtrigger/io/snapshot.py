@@ -327,6 +327,11 @@ class Snapshot:
         """Return a copy with some fields changed (validated again)."""
         return dataclasses.replace(self, **changes)
 
+    def __reduce__(self) -> tuple[Any, ...]:
+        # The read-only extras view cannot be pickled itself (Dask workers, deepcopy).
+        fields = (self.cycle, self.model, self.readout, self.title, self.notes, self.created)
+        return (type(self), (*fields, dict(self.extras)))
+
 
 # --- dict <-> Snapshot -----------------------------------------------------------------------
 
