@@ -6,6 +6,7 @@ package loads numpy and scipy only; the widget layer lives in `hairtrigger.widge
 
 from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map
 from .core.fitting import fit_dose_response
+from .io import Snapshot, load_snapshot, save_snapshot
 from .io.data import load_data
 
 __version__ = "0.1.0"
@@ -13,9 +14,12 @@ __version__ = "0.1.0"
 __all__ = [
     "CYCLE_KEYS",
     "Cycle",
+    "Snapshot",
     "__version__",
     "evaluate",
     "fit_dose_response",
     "load_data",
+    "load_snapshot",
+    "save_snapshot",
     "steepness_map",
 ]

@@ -41,6 +41,7 @@ from typing import Final
 import numpy as np
 
 from ..core.dataset import INPUT_KINDS, DoseResponseData
+from .examples import EXAMPLES_DIR
 
 #: Columns with a meaning; every other column is kept as text.
 KNOWN_COLUMNS: Final[tuple[str, ...]] = ("input", "readout", "sd", "replicate")
@@ -61,6 +62,32 @@ class DataError(ValueError):
         super().__init__(message)
         self.row = row
         self.column = column
+
+
+def list_example_data() -> list[str]:
+    """Return the names of the bundled example data files (invented data, ``.csv``)."""
+    return sorted(path.name for path in EXAMPLES_DIR.glob("*.csv"))
+
+
+def example_data_path(name: str) -> Path:
+    """Return the path of a bundled example data file (with or without ``.csv``).
+
+    The examples are invented for demonstrations and are never check values.
+
+    Examples
+    --------
+    >>> example_data_path("invented_kinase_titration").name
+    'invented_kinase_titration.csv'
+    """
+    if not isinstance(name, str):
+        msg = f"`name` must be a string; got {type(name).__name__}"
+        raise TypeError(msg)
+    file_name = name if name.endswith(".csv") else f"{name}.csv"
+    names = list_example_data()
+    if file_name not in names:
+        msg = f"no example data file named `{name}`; available: {', '.join(names)}"
+        raise ValueError(msg)
+    return EXAMPLES_DIR / file_name
 
 
 def load_data(
