@@ -234,3 +234,44 @@ def test_unknown_model_is_refused_by_the_parser(hill_csv, capsys):
         main(["fit", str(hill_csv), "--model", "logistic"])
     assert info.value.code == 2
     assert "invalid choice" in capsys.readouterr().err
+
+
+def test_cycle_snapshot_supplies_known_values_and_the_fitted_cycle(tmp_path, capsys):
+    from hairtrigger import load_snapshot
+    from hairtrigger.core.fit_models import MassActionModel
+    from hairtrigger.io import example_path
+
+    snapshot = load_snapshot(example_path("scarce_enzyme_switch"))
+    model = MassActionModel(snapshot.cycle, snapshot.readout)
+    w = snapshot.cycle.substrate_total
+    r = np.geomspace(0.3, 3.0, 12)
+    y = model.predict(np.array([0.05 * w, 0.1 * w, 0.02, 0.9]), r)
+    path = tmp_path / "exact.csv"
+    path.write_text(_csv(r, y), encoding="utf-8")
+    status, out, err = run_cli(
+        ["fit", str(path), "--model", "mass_action", "--cycle", "example:scarce_enzyme_switch",
+         "--no-compare"], capsys)
+    assert status == 0, err
+    result = json.loads(out)
+    assert result["parameters"]["kinase_km"]["value"] == pytest.approx(0.05 * w, rel=1e-5)
+    assert result["context"]["readout"] == snapshot.readout
+    assert result["cycle"]["kinase_km"] == pytest.approx(0.05 * w, rel=1e-5)
+    assert result["cycle"]["substrate_total"] == w
+
+
+def test_example_data_and_out_file(tmp_path, capsys):
+    target = tmp_path / "fit.json"
+    args = ["fit", "example:invented_kinase_titration", "--no-compare", "--out", str(target)]
+    status, out, err = run_cli(args, capsys)
+    assert status == 0 and out == "", err
+    assert json.loads(target.read_text(encoding="utf-8"))["n_points"] == 36
+    status, out, err = run_cli(args, capsys)  # refuses to replace without --force
+    assert status == 2 and "--force" in err and len(err.strip().splitlines()) == 1
+    status, _, err = run_cli([*args, "--force"], capsys)
+    assert status == 0, err
+
+
+def test_unknown_example_data_is_one_line(capsys):
+    status, out, err = run_cli(["fit", "example:nothing"], capsys)
+    assert status == 2 and out == ""
+    assert "invented_kinase_titration" in err and len(err.strip().splitlines()) == 1

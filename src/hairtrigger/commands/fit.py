@@ -5,14 +5,14 @@ from __future__ import annotations
 import argparse
 import json
 import math
-import sys
 from typing import Any
 
 from ..core.fit_models import FIT_MODELS, KNOWN_CYCLE_KEYS
 from ..core.fitting import DEFAULT_COMPARISON, fit_dose_response
 from ..core.params import READOUTS, Cycle
-from ..io.data import load_data
+from ..io.data import example_data_path, list_example_data, load_data
 from . import UserError
+from ._files import EXAMPLE_PREFIX, check_output_path, read_snapshot, write_output
 
 _KNOWN_OPTIONS = {key: "--" + key.replace("_", "-") for key in KNOWN_CYCLE_KEYS}
 
@@ -41,7 +41,12 @@ def register(subparsers: Any) -> None:
         epilog=_EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    parser.add_argument("data", metavar="DATA.csv", help="dose-response CSV file")
+    parser.add_argument(
+        "data",
+        metavar="DATA.csv",
+        help=f"dose-response CSV file, or {EXAMPLE_PREFIX}NAME for bundled invented data "
+        f"({', '.join(n.removesuffix('.csv') for n in list_example_data())})",
+    )
     parser.add_argument(
         "--model", choices=FIT_MODELS, default="hill", help="model to fit (default: hill)"
     )
@@ -92,8 +97,9 @@ def register(subparsers: Any) -> None:
     parser.add_argument(
         "--cycle",
         metavar="SNAPSHOT.json",
-        help="snapshot whose cycle supplies the known values (mass_action) and "
-        "the substrate total for reporting the fitted cycle",
+        help="snapshot (or example:NAME) whose cycle supplies the known values of the "
+        "mass_action model and its readout; with a cycle model the output also holds the "
+        "fitted cycle ('cycle' block) for adopting into a snapshot",
     )
     for key, option in _KNOWN_OPTIONS.items():
         parser.add_argument(
@@ -106,10 +112,12 @@ def register(subparsers: Any) -> None:
     parser.add_argument(
         "--readout",
         choices=READOUTS,
-        default="total_modified",
-        help="what the assay measures in the mass_action model (default "
-        "total_modified: modified substrate including enzyme complexes)",
+        default=None,
+        help="what the assay measures in the mass_action model (default: the snapshot's "
+        "readout, else total_modified: modified substrate including enzyme complexes)",
     )
+    parser.add_argument("--out", metavar="FILE", help="write the JSON to FILE instead of stdout")
+    parser.add_argument("--force", action="store_true", help="replace an existing --out FILE")
     parser.set_defaults(func=run)
 
 
@@ -132,20 +140,18 @@ def _fixed(items: list[str]) -> dict[str, float]:
     return out
 
 
-def _known_cycle(args: argparse.Namespace) -> Cycle | dict[str, float] | None:
+def _known_cycle(
+    args: argparse.Namespace,
+) -> tuple[Cycle | dict[str, float] | None, str]:
+    """Known cycle values (snapshot, overridden by explicit options) and the readout."""
     explicit = {k: getattr(args, k) for k in KNOWN_CYCLE_KEYS if getattr(args, k) is not None}
-    base: Cycle | None = None
     if args.cycle:
-        try:
-            from ..io import load_snapshot  # type: ignore[attr-defined]
-        except ImportError:  # pragma: no cover - snapshot support ships with hairtrigger.io
-            msg = "--cycle needs snapshot support (hairtrigger.io.load_snapshot)"
-            raise UserError(msg) from None
-        base = load_snapshot(args.cycle).cycle
-    if base is not None:
-        return base.replace(**explicit) if explicit else base
+        snapshot = read_snapshot(args.cycle)
+        base = snapshot.cycle.replace(**explicit) if explicit else snapshot.cycle
+        return base, args.readout or snapshot.readout
+    readout = args.readout or "total_modified"
     if not explicit:
-        return None
+        return None, readout
     if args.model == "mass_action":
         missing = [_KNOWN_OPTIONS[k] for k in KNOWN_CYCLE_KEYS if k not in explicit]
         if missing:
@@ -155,7 +161,29 @@ def _known_cycle(args: argparse.Namespace) -> Cycle | dict[str, float] | None:
                 + " (or --cycle SNAPSHOT.json)"
             )
             raise UserError(msg)
-    return explicit
+    return explicit, readout
+
+
+def _read_data(args: argparse.Namespace) -> Any:
+    path = args.data
+    if path.startswith(EXAMPLE_PREFIX):
+        try:
+            path = example_data_path(path.removeprefix(EXAMPLE_PREFIX))
+        except ValueError as exc:
+            raise UserError(str(exc)) from None
+    try:
+        return load_data(
+            path,
+            input_kind=args.input_kind,
+            input_unit=args.input_unit,
+            readout_unit=args.readout_unit,
+        )
+    except FileNotFoundError:
+        raise UserError(f"{path}: no such file") from None
+    except IsADirectoryError:
+        raise UserError(f"{path}: is a folder, not a data file") from None
+    except OSError as exc:
+        raise UserError(f"{path}: cannot be read ({exc.strerror or exc})") from None
 
 
 def run(args: argparse.Namespace) -> int:
@@ -169,7 +197,9 @@ def run(args: argparse.Namespace) -> int:
     if not 0.5 <= args.confidence < 1.0:
         msg = f"--confidence must be in [0.5, 1); got {args.confidence:g}"
         raise UserError(msg)
-    cycle = _known_cycle(args)
+    if args.out is not None:
+        check_output_path(args.out, args.force, (args.data,))
+    cycle, readout = _known_cycle(args)
     if args.model == "mass_action" and cycle is None:
         msg = (
             "the mass_action model needs the known totals and turnover numbers: give "
@@ -186,18 +216,13 @@ def run(args: argparse.Namespace) -> int:
             raise UserError(msg)
     else:
         compare = DEFAULT_COMPARISON
-    data = load_data(
-        args.data,
-        input_kind=args.input_kind,
-        input_unit=args.input_unit,
-        readout_unit=args.readout_unit,
-    )
+    data = _read_data(args)
     result = fit_dose_response(
         data,
         args.model,
         compare=compare,
         cycle=cycle,
-        readout=args.readout,
+        readout=readout,
         fixed=_fixed(args.fix),
         intervals="bootstrap" if args.bootstrap is not None else "profile",
         bootstrap=args.bootstrap or 1000,
@@ -206,5 +231,5 @@ def run(args: argparse.Namespace) -> int:
         absolute_sd=args.absolute_sd,
     )
     # Serialise fully before writing, so a failure never leaves half a JSON object behind.
-    sys.stdout.write(json.dumps(result, indent=2, allow_nan=False) + "\n")
+    write_output(json.dumps(result, indent=2, allow_nan=False) + "\n", args.out, args.force)
     return 0
