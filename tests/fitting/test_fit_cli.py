@@ -249,8 +249,17 @@ def test_cycle_snapshot_supplies_known_values_and_the_fitted_cycle(tmp_path, cap
     path = tmp_path / "exact.csv"
     path.write_text(_csv(r, y), encoding="utf-8")
     status, out, err = run_cli(
-        ["fit", str(path), "--model", "mass_action", "--cycle", "example:scarce_enzyme_switch",
-         "--no-compare"], capsys)
+        [
+            "fit",
+            str(path),
+            "--model",
+            "mass_action",
+            "--cycle",
+            "example:scarce_enzyme_switch",
+            "--no-compare",
+        ],
+        capsys,
+    )
     assert status == 0, err
     result = json.loads(out)
     assert result["parameters"]["kinase_km"]["value"] == pytest.approx(0.05 * w, rel=1e-5)

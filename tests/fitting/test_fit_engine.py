@@ -277,6 +277,20 @@ def test_k1_and_k2_from_one_curve_in_dose_units_are_flagged():
     assert "K1 and K2 cannot be told apart" in text
 
 
+def test_michaelian_data_fitted_with_the_cycle_model_are_called_degenerate():
+    # A hyperbolic response is the cycle's limit of unsaturated enzymes (K1, K2 -> infinity
+    # with r/K1 fixed; Goldbeter & Koshland 1981): K1, K2 and the input scale then trade off.
+    rng = np.random.default_rng(0)
+    x = np.repeat(np.geomspace(0.1, 10.0, 8), 2)
+    y = hill_curve(x, 1.0, 1.0, 0.0, 1.0) + rng.normal(0, 0.01, x.size)
+    fit = fit_model({"input": x, "readout": y, "input_kind": "amount"}, "quasi_steady")
+    text = " | ".join(fit.warnings)
+    assert "nearly degenerate" in text and "K1" in text.split("nearly degenerate")[1]
+    assert "Michaelian (not ultrasensitive)" in text
+    k1 = next(p for p in fit.parameters if p.name == "K1")
+    assert k1.high is None
+
+
 def test_top_is_open_when_the_data_never_reach_the_plateau():
     x = np.geomspace(0.01, 0.5, 10)
     rng = np.random.default_rng(9)

@@ -345,20 +345,41 @@ def _profile_side(
     return None
 
 
-def covariance(
-    problem: Problem, best: _Solution, statistic: _Statistic
-) -> tuple[FloatArray, float]:
-    """Linearised covariance of the free z coordinates and the scaled-Jacobian condition."""
+@dataclass(frozen=True)
+class Linearisation:
+    """The fit's local picture: covariance of the free z coordinates and its weakest direction.
+
+    Attributes
+    ----------
+    cov : ndarray, shape (p_free, p_free)
+        Linearised covariance (pseudo-inverse, so finite even when singular).
+    condition : float
+        Condition number of the Jacobian with unit-norm columns (scale-free).
+    weakest : tuple of int
+        Free-coordinate columns that carry the least-determined direction (the right singular
+        vector of the smallest singular value, components above a third of its largest).
+    """
+
+    cov: FloatArray
+    condition: float
+    weakest: tuple[int, ...]
+
+
+def linearise(problem: Problem, best: _Solution, statistic: _Statistic) -> Linearisation:
+    """Linearised covariance and degeneracy measures at the optimum."""
     jac = problem.jacobian(best.z, problem.free)
     norms = np.linalg.norm(jac, axis=0)
     safe = np.where(norms > 0, norms, 1.0)
-    sv = np.linalg.svd(jac / safe, compute_uv=False)
-    condition = (
-        math.inf if sv.size == 0 or sv[-1] <= 0 or np.any(norms == 0) else float(sv[0] / sv[-1])
-    )
+    _, sv, vt = np.linalg.svd(jac / safe, full_matrices=False)
+    if sv.size == 0 or sv[-1] <= 0 or np.any(norms == 0):
+        condition = math.inf
+    else:
+        condition = float(sv[0] / sv[-1])
+    weak = np.abs(vt[-1]) if sv.size else np.zeros(0)
+    weakest = tuple(np.flatnonzero(weak > weak.max() / 3).tolist()) if weak.size else ()
     jtj = jac.T @ jac
     cov = np.asarray(np.linalg.pinv(jtj, rcond=1e-13) * statistic.scale, dtype=float)
-    return cov, condition
+    return Linearisation(cov, condition, weakest)
 
 
 def check_fixed(model: ShapeModel, fixed: Mapping[str, Any] | None) -> dict[str, float]:
@@ -473,9 +494,9 @@ class Engine:
         for _ in range(4):  # a profile may uncover a better optimum: restart from it
             try:
                 statistic = self.statistic(best)
-                cov, condition = covariance(pb, best, statistic)
+                lin = linearise(pb, best, statistic)
                 if intervals == "profile":
-                    ends, profiles = self._profiles(best, statistic, cov)
+                    ends, profiles = self._profiles(best, statistic, lin.cov)
                 elif intervals == "bootstrap":
                     ends, boot_info = self._bootstrap(best, n_boot, seed)
                 else:  # best fit only: no interval, hence no claim about identifiability
@@ -485,8 +506,8 @@ class Engine:
                 best = pb.solve(better.solution.z, pb.free)
         else:  # pragma: no cover - pathological surfaces only
             ends = {}
-        self._diagnose(best, statistic, cov, condition, ends, found.others)
-        return self._pack(best, statistic, cov, ends, profiles, intervals, boot_info)
+        self._diagnose(best, statistic, lin, ends, found.others)
+        return self._pack(best, statistic, lin.cov, ends, profiles, intervals, boot_info)
 
     # intervals -------------------------------------------------------------------------------
     def _profiles(
@@ -566,8 +587,7 @@ class Engine:
         self,
         best: _Solution,
         statistic: _Statistic,
-        cov: FloatArray,
-        condition: float,
+        lin: Linearisation,
         ends: Mapping[int, tuple[float | None, float | None]],
         others: list[_Solution],
     ) -> None:
@@ -603,16 +623,21 @@ class Engine:
                     f"its interval is open {side} ({key} = null)"
                 )
         free_names = [pb.names[j] for j in np.flatnonzero(pb.free)]
-        if condition > CONDITION_WARNING:
+        if lin.condition > CONDITION_WARNING:
+            weak = ", ".join(free_names[c] for c in lin.weakest)
             self.warnings.append(
-                f"the fit is nearly degenerate (scaled Jacobian condition number {condition:.2g}): "
-                "the data constrain only combinations of " + ", ".join(free_names)
+                f"the fit is nearly degenerate (scaled Jacobian condition number "
+                f"{lin.condition:.2g}): the data constrain only a combination of {weak}, not "
+                "each of them"
             )
+        cov = lin.cov
         se = np.sqrt(np.clip(np.diag(cov), 0, None))
-        for a in range(len(free_names)):
+        # In a degenerate fit the pairwise correlations only echo the weak direction named above.
+        pairs = [] if lin.condition > CONDITION_WARNING else range(len(free_names))
+        for a in pairs:
             for b in range(a + 1, len(free_names)):
                 if se[a] > 0 and se[b] > 0:
-                    rho = cov[a, b] / (se[a] * se[b])
+                    rho = float(np.clip(cov[a, b] / (se[a] * se[b]), -1.0, 1.0))
                     if abs(rho) > CORRELATION_WARNING:
                         self.warnings.append(
                             f"{free_names[a]} and {free_names[b]} are strongly correlated "
@@ -625,6 +650,17 @@ class Engine:
                 if self.model.name == "quasi_steady"
                 else ("kinase_km", "phosphatase_km")
             )
+            at_top = [
+                p
+                for p in pair
+                if best.z[pb.names.index(p)] >= pb.upper[pb.names.index(p)] - 0.01
+                or ends.get(pb.names.index(p), (0.0, 0.0))[1] is None
+            ]
+            if len(at_top) == 2:
+                self.warnings.append(
+                    f"{pair[0]} and {pair[1]} both run to large values: the data are consistent "
+                    "with enzymes far from saturation, a Michaelian (not ultrasensitive) cycle"
+                )
             if any(p in unidentified for p in pair):
                 self.warnings.append(
                     f"{pair[0]} and {pair[1]} cannot be told apart from this one curve: its "
