@@ -33,9 +33,9 @@ def register(subparsers: Any) -> None:
         "fit",
         help="fit dose-response data (Michaelian, Hill, cycle models) with 95 %% intervals",
         description=(
-            "Fit measured readout-versus-input data by weighted, bounded least squares from "
-            "several starts; print estimates with profile-likelihood (or bootstrap) intervals, "
-            "AIC/AICc, identifiability warnings and a comparison with the Michaelian and Hill "
+            "Fit measured readout-versus-input data by weighted, bounded least squares from\n"
+            "several starts; print estimates with profile-likelihood (or bootstrap) intervals,\n"
+            "AIC/AICc, identifiability warnings and a comparison with the Michaelian and Hill\n"
             "models as JSON."
         ),
         epilog=_EPILOG,
@@ -99,7 +99,8 @@ def register(subparsers: Any) -> None:
         metavar="SNAPSHOT.json",
         help="snapshot (or example:NAME) whose cycle supplies the known values of the "
         "mass_action model and its readout; with a cycle model the output also holds the "
-        "fitted cycle ('cycle' block) for adopting into a snapshot",
+        "fitted cycle ('cycle' block: Michaelis constants K*W with the snapshot's substrate "
+        "total, other values from the snapshot) for adopting into a snapshot",
     )
     for key, option in _KNOWN_OPTIONS.items():
         parser.add_argument(
