@@ -607,3 +607,46 @@ def integrate(  # type: ignore[no-untyped-def]
             if status != 0:
                 return status
     return 0
+
+
+@njit(cache=True)
+def mass_action_start(w, e1, kc1, m1, e2, kc2, m2, out):  # type: ignore[no-untyped-def]
+    """Mass-action steady state ``[B, C1, C2]`` for scalar parameters, into `out`.
+
+    The scalar twin of `hairtrigger.core.steady.mass_action_state` (same unknown, the gap
+    g = min(V1, V2) − v, same start right of the root and bisection guard), compiled so that
+    a time course does not pay numpy's per-call overhead for one point. Tests check that both
+    agree to rounding.
+    """
+    v1 = kc1 * e1
+    v2 = kc2 * e2
+    vmin = min(v1, v2)
+    d1 = v1 - vmin
+    d2 = v2 - vmin
+    inv_k = 1.0 / kc1 + 1.0 / kc2
+    tiny = 2.2250738585072014e-308
+    gap_lo = max(-d1 + v1 * m1 / (m1 + w), -d2 + v2 * m2 / (m2 + w), vmin - w / inv_k)
+    gap_lo = min(max(gap_lo, tiny), vmin)
+    gap_hi = vmin
+    gap = gap_lo
+    for _ in range(200):
+        v = vmin - gap
+        r1 = d1 + gap
+        r2 = d2 + gap
+        f = m1 * v / r1 + m2 * v / r2 + v * inv_k - w
+        slope = m1 * v1 / (r1 * r1) + m2 * v2 / (r2 * r2) + inv_k
+        if f >= 0.0:
+            gap_lo = gap
+        else:
+            gap_hi = gap
+        new = gap + f / slope
+        if not (gap_lo < new < gap_hi):
+            new = math.sqrt(gap_lo * gap_hi)
+        change = abs(new - gap)
+        gap = new
+        if change <= 4.0 * _EPS * gap:
+            break
+    v = vmin - gap
+    out[0] = m2 * v / (d2 + gap)
+    out[1] = v / kc1
+    out[2] = v / kc2
