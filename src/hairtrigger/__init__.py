@@ -4,7 +4,7 @@ The public API re-exported here is stable; see DEVELOPERS.md for the layout. Imp
 package loads numpy and scipy only; the widget layer lives in `hairtrigger.widgets`.
 """
 
-from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map
+from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map, time_course
 
 __version__ = "0.1.0"
 
@@ -14,4 +14,5 @@ __all__ = [
     "__version__",
     "evaluate",
     "steepness_map",
+    "time_course",
 ]

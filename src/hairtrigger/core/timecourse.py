@@ -475,7 +475,7 @@ def time_course(
     >>> list(course)
     ['t', 'unmodified', 'modified', 'kinase_complex', 'phosphatase_complex', 'readout']
     >>> round(float(course["readout"][0]), 6), round(float(course["readout"][-1]), 4)
-    (0.5, 0.9759)
+    (0.5, 0.9547)
     """
     if not isinstance(cycle, Cycle):
         msg = f"`cycle` must be a hairtrigger.Cycle; got {type(cycle).__name__}"
