@@ -30,11 +30,19 @@ from hairtrigger.io.sbml import cycle_to_sbml
 POINTS = 200
 
 MILD = Cycle(
-    substrate_total=1.0, kinase_total=0.01, kinase_kcat=1.0, kinase_km=0.05, kinase_kon=100.0,
-    phosphatase_total=0.01, phosphatase_kcat=1.0, phosphatase_km=0.05, phosphatase_kon=100.0,
+    substrate_total=1.0,
+    kinase_total=0.01,
+    kinase_kcat=1.0,
+    kinase_km=0.05,
+    kinase_kon=100.0,
+    phosphatase_total=0.01,
+    phosphatase_kcat=1.0,
+    phosphatase_km=0.05,
+    phosphatase_kon=100.0,
 )
-STIFF = MILD.replace(kinase_km=1e-4, phosphatase_km=1e-4, kinase_kon=1e6, phosphatase_kon=1e6,
-                     kinase_total=0.009)
+STIFF = MILD.replace(
+    kinase_km=1e-4, phosphatase_km=1e-4, kinase_kon=1e6, phosphatase_kon=1e6, kinase_total=0.009
+)
 CASES = (
     ("mild (Km/W 0.05, kon 1e2)", MILD, {"kinase_total": 0.02}, 300.0),
     ("stiff (Km/W 1e-4, kon 1e6)", STIFF, {"kinase_total": 0.011}, 2000.0),
@@ -52,8 +60,9 @@ def best_of(fn: Callable[[], object], repeat: int = 40) -> float:
     return min(times)
 
 
-def roadrunner_runner(cycle: Cycle, step: dict[str, float], model: str, t_end: float, rtol: float,
-                      atol: float) -> tuple[Callable[[], np.ndarray], roadrunner.RoadRunner]:
+def roadrunner_runner(
+    cycle: Cycle, step: dict[str, float], model: str, t_end: float, rtol: float, atol: float
+) -> tuple[Callable[[], np.ndarray], roadrunner.RoadRunner]:
     rr = roadrunner.RoadRunner(cycle_to_sbml(cycle, model))
     rr.integrator.relative_tolerance = rtol
     rr.integrator.absolute_tolerance = atol
@@ -78,8 +87,14 @@ def mass_action() -> None:
     print(f"== mass-action time course, {POINTS} points: ours vs libroadrunner (same SBML model)")
     t0 = time.perf_counter()
     time_course(MILD, {"kinase_total": 0.02}, 10.0, 3, model="mass_action")
-    print(f"   first call in this process (numba load/compile): {1e3 * (time.perf_counter() - t0):.0f} ms")
-    print(f"   {'cycle':28s} {'rtol':>6s} {'ours ms':>8s} {'rr ms':>8s} {'rr/ours':>8s} {'max |dB| uM':>12s}")
+    print(
+        "   first call in this process (numba load/compile): "
+        f"{1e3 * (time.perf_counter() - t0):.0f} ms"
+    )
+    print(
+        f"   {'cycle':28s} {'rtol':>6s} {'ours ms':>8s} {'rr ms':>8s} {'rr/ours':>8s}"
+        f" {'max |dB| uM':>12s}"
+    )
     for label, cycle, step, t_end in CASES:
         for rtol in (1e-6, 1e-8, 1e-10):
             atol = 1e-12 if rtol > 1e-9 else 1e-14
@@ -91,8 +106,10 @@ def mass_action() -> None:
             t_ours = best_of(ours)
             t_rr = best_of(run_rr)
             gap = max_gap(ours(), run_rr(), rr)
-            print(f"   {label:28s} {rtol:6.0e} {1e3 * t_ours:8.3f} {1e3 * t_rr:8.3f} "
-                  f"{t_rr / t_ours:8.2f} {gap:12.2e}")
+            print(
+                f"   {label:28s} {rtol:6.0e} {1e3 * t_ours:8.3f} {1e3 * t_rr:8.3f} "
+                f"{t_rr / t_ours:8.2f} {gap:12.2e}"
+            )
     print("   rr/ours > 1 means ours is faster; default rtol of time_course is 1e-8.")
 
 
@@ -101,7 +118,12 @@ def quasi_steady() -> None:
     for label, cycle, step, t_end in CASES:
         after = cycle.replace(**step)
         w = cycle.substrate_total
-        v1, v2, m1, m2 = after.kinase_vmax, after.phosphatase_vmax, after.kinase_km, after.phosphatase_km
+        v1, v2, m1, m2 = (
+            after.kinase_vmax,
+            after.phosphatase_vmax,
+            after.kinase_km,
+            after.phosphatase_km,
+        )
 
         def exact(cycle=cycle, step=step, t_end=t_end):
             return time_course(cycle, step, t_end, POINTS)
@@ -119,8 +141,9 @@ def quasi_steady() -> None:
         b0 = float(course["modified"][0])
 
         def lsoda(t=t, b0=b0, rhs=rhs, jac=jac):
-            return solve_ivp(rhs, (0.0, t[-1]), [b0], method="LSODA", t_eval=t, jac=jac,
-                             rtol=1e-10, atol=1e-14)
+            return solve_ivp(
+                rhs, (0.0, t[-1]), [b0], method="LSODA", t_eval=t, jac=jac, rtol=1e-10, atol=1e-14
+            )
 
         def ode(cycle=cycle, step=step, t_end=t_end):
             return time_course(cycle, step, t_end, POINTS, method="ode", rtol=1e-10)
@@ -134,11 +157,18 @@ def quasi_steady() -> None:
         err_rr = max_gap(course, run_rr(), rr)
         print(f"   {label}")
         print(f"     exact t(B) inverted        {1e3 * t_exact:8.3f} ms")
-        print(f"     scipy LSODA (rtol 1e-10)   {1e3 * t_lsoda:8.3f} ms  ratio {t_lsoda / t_exact:6.1f}x"
-              f"  max |dB| {err_lsoda:.1e} uM")
-        print(f"     ours, compiled Radau       {1e3 * t_ode:8.3f} ms  ratio {t_ode / t_exact:6.1f}x")
-        print(f"     libroadrunner (rtol 1e-10) {1e3 * t_rr:8.3f} ms  ratio {t_rr / t_exact:6.1f}x"
-              f"  max |dB| {err_rr:.1e} uM")
+        print(
+            f"     scipy LSODA (rtol 1e-10)   {1e3 * t_lsoda:8.3f} ms"
+            f"  ratio {t_lsoda / t_exact:6.1f}x"
+            f"  max |dB| {err_lsoda:.1e} uM"
+        )
+        print(
+            f"     ours, compiled Radau       {1e3 * t_ode:8.3f} ms  ratio {t_ode / t_exact:6.1f}x"
+        )
+        print(
+            f"     libroadrunner (rtol 1e-10) {1e3 * t_rr:8.3f} ms  ratio {t_rr / t_exact:6.1f}x"
+            f"  max |dB| {err_rr:.1e} uM"
+        )
 
 
 if __name__ == "__main__":

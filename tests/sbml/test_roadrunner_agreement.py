@@ -1,4 +1,4 @@
-"""The exported SBML, simulated by libroadrunner (CVODE), agrees with our courses and steady states."""
+"""Our SBML export simulated by libroadrunner (CVODE) agrees with our courses and steady states."""
 
 from __future__ import annotations
 
@@ -33,10 +33,24 @@ def simulate(text: str, step: dict[str, float], t_end: float, points: int) -> di
 CASES = [
     pytest.param({}, {"kinase_total": 0.02}, 300.0, id="scarce-up"),
     pytest.param({"kinase_total": 0.004}, {"kinase_total": 0.012}, 1500.0, id="cross-threshold"),
-    pytest.param({"kinase_km": 1e-4, "phosphatase_km": 1e-4, "kinase_kon": 1e6, "phosphatase_kon": 1e6,
-                  "kinase_total": 0.009}, {"kinase_total": 0.011}, 2000.0, id="stiff-zero-order"),
-    pytest.param({"kinase_total": 0.3, "phosphatase_total": 0.2}, {"phosphatase_total": 0.4}, 60.0,
-                 id="abundant-enzymes"),
+    pytest.param(
+        {
+            "kinase_km": 1e-4,
+            "phosphatase_km": 1e-4,
+            "kinase_kon": 1e6,
+            "phosphatase_kon": 1e6,
+            "kinase_total": 0.009,
+        },
+        {"kinase_total": 0.011},
+        2000.0,
+        id="stiff-zero-order",
+    ),
+    pytest.param(
+        {"kinase_total": 0.3, "phosphatase_total": 0.2},
+        {"phosphatase_total": 0.4},
+        60.0,
+        id="abundant-enzymes",
+    ),
 ]
 
 
@@ -58,9 +72,19 @@ def test_course_agrees_with_roadrunner(model: str, changes, step, t_end) -> None
 
 STEADY = [
     pytest.param({}, id="base"),
-    pytest.param({"kinase_total": 0.03, "kinase_km": 0.002, "phosphatase_km": 0.004, "kinase_kon": 1000.0,
-                  "phosphatase_kon": 1000.0}, id="saturated"),
-    pytest.param({"kinase_total": 0.4, "phosphatase_total": 0.5, "kinase_km": 0.2}, id="sequestering"),
+    pytest.param(
+        {
+            "kinase_total": 0.03,
+            "kinase_km": 0.002,
+            "phosphatase_km": 0.004,
+            "kinase_kon": 1000.0,
+            "phosphatase_kon": 1000.0,
+        },
+        id="saturated",
+    ),
+    pytest.param(
+        {"kinase_total": 0.4, "phosphatase_total": 0.5, "kinase_km": 0.2}, id="sequestering"
+    ),
 ]
 
 
@@ -68,7 +92,9 @@ STEADY = [
 @pytest.mark.parametrize("changes", STEADY)
 def test_steady_state_agrees_with_roadrunner(model: str, changes) -> None:
     cycle = make_cycle(**changes)
-    rr = roadrunner.RoadRunner(cycle_to_sbml(cycle.replace(kinase_total=0.5 * cycle.kinase_total), model))
+    rr = roadrunner.RoadRunner(
+        cycle_to_sbml(cycle.replace(kinase_total=0.5 * cycle.kinase_total), model)
+    )
     rr.conservedMoietyAnalysis = True
     rr.kinase_total = cycle.kinase_total
     rr.reset()
@@ -81,4 +107,6 @@ def test_steady_state_agrees_with_roadrunner(model: str, changes) -> None:
     ours = steady_state(cycle.arrays(), model)
     for name in SPECIES:
         if name in theirs:
-            assert abs(theirs[name] - float(getattr(ours, name))) < 1e-9 * cycle.substrate_total, name
+            assert abs(theirs[name] - float(getattr(ours, name))) < 1e-9 * cycle.substrate_total, (
+                name
+            )

@@ -18,16 +18,22 @@ from hairtrigger.io.sbml import (
 
 CYCLES = [
     pytest.param({}, id="base"),
-    pytest.param({"kinase_total": 1 / 3, "phosphatase_km": 0.1 + 0.2, "kinase_kon": 1e6, "kinase_km": 1e-4},
-                 id="awkward-decimals"),
-    pytest.param({"substrate_total": 123.456789012345678, "kinase_kcat": 7.0e-3, "phosphatase_kcat": 2.5e-3},
-                 id="slow-enzymes"),
+    pytest.param(
+        {"kinase_total": 1 / 3, "phosphatase_km": 0.1 + 0.2, "kinase_kon": 1e6, "kinase_km": 1e-4},
+        id="awkward-decimals",
+    ),
+    pytest.param(
+        {"substrate_total": 123.456789012345678, "kinase_kcat": 7.0e-3, "phosphatase_kcat": 2.5e-3},
+        id="slow-enzymes",
+    ),
 ]
 
 
 @pytest.mark.parametrize("model", ["mass_action", "quasi_steady"])
 @pytest.mark.parametrize("changes", CYCLES)
-def test_export_passes_libsbml_consistency_checks_with_units(model: str, changes: dict[str, float]) -> None:
+def test_export_passes_libsbml_consistency_checks_with_units(
+    model: str, changes: dict[str, float]
+) -> None:
     text = cycle_to_sbml(make_cycle(**changes), model)
     assert consistency_problems(text, units=True) == []
 
@@ -48,8 +54,12 @@ def test_structure_of_the_two_encodings() -> None:
         ["unmodified", "modified", "kinase", "phosphatase", "kinase_complex", "phosphatase_complex"]
     )
     assert [r.getId() for r in mass.getListOfReactions()] == [
-        "kinase_binding", "kinase_unbinding", "kinase_catalysis",
-        "phosphatase_binding", "phosphatase_unbinding", "phosphatase_catalysis",
+        "kinase_binding",
+        "kinase_unbinding",
+        "kinase_catalysis",
+        "phosphatase_binding",
+        "phosphatase_unbinding",
+        "phosphatase_catalysis",
     ]
     assert [r.getId() for r in quasi.getListOfReactions()] == ["modification", "demodification"]
     assert quasi.getNumSpecies() == 2
@@ -77,8 +87,12 @@ def test_value_edited_in_another_tool_wins_over_annotation() -> None:
     ("text", "match"),
     [
         ("not xml at all", "not readable as SBML"),
-        ('<?xml version="1.0" encoding="UTF-8"?><sbml xmlns="http://www.sbml.org/sbml/level3/version2/core" '
-         'level="3" version="2"/>', "no model"),
+        (
+            '<?xml version="1.0" encoding="UTF-8"?>'
+            '<sbml xmlns="http://www.sbml.org/sbml/level3/version2/core" '
+            'level="3" version="2"/>',
+            "no model",
+        ),
     ],
 )
 def test_unreadable_documents(text: str, match: str) -> None:

@@ -27,7 +27,6 @@ def make_cycle(**changes: float) -> Cycle:
     return Cycle(**values)
 
 
-
 def write_snapshot(
     path: Path, cycle: Cycle, model: str = "quasi_steady", readout: str = "total_modified"
 ) -> Path:

@@ -12,13 +12,25 @@ from hairtrigger.core.steady import goldbeter_koshland, mass_action_state
 
 
 def quasi_steady_reference(
-    before: Cycle, v1_of_t: Callable[[float], float], v2: float, m1: float, m2: float,
-    t: np.ndarray, b0: float | None = None,
+    before: Cycle,
+    v1_of_t: Callable[[float], float],
+    v2: float,
+    m1: float,
+    m2: float,
+    t: np.ndarray,
+    b0: float | None = None,
 ) -> np.ndarray:
     """B(t) of dB/dt = V1(t)·A/(M1 + A) − V2·B/(M2 + B) by LSODA at tight tolerance."""
     w = before.substrate_total
     if b0 is None:
-        b0 = float(goldbeter_koshland(before.kinase_vmax, before.phosphatase_vmax, before.K1, before.K2)) * w
+        b0 = (
+            float(
+                goldbeter_koshland(
+                    before.kinase_vmax, before.phosphatase_vmax, before.K1, before.K2
+                )
+            )
+            * w
+        )
 
     def rhs(time: float, y: np.ndarray) -> list[float]:
         a = w - y[0]
@@ -30,7 +42,9 @@ def quasi_steady_reference(
 
 
 def mass_action_reference(
-    before: Cycle, after: Cycle, t: np.ndarray,
+    before: Cycle,
+    after: Cycle,
+    t: np.ndarray,
     enzyme_slopes: Callable[[float], tuple[float, float]] | None = None,
 ) -> dict[str, np.ndarray]:
     """Six-species mass-action network (A, B, C1, C2, free E1, free E2) by scipy Radau.
@@ -45,7 +59,8 @@ def mass_action_reference(
     c1, c2 = float(st.kinase_complex), float(st.phosphatase_complex)
     f1, f2 = before.kinase_total - c1, before.phosphatase_total - c2
     for total_before, total_after, index in (
-        (before.kinase_total, after.kinase_total, 1), (before.phosphatase_total, after.phosphatase_total, 2)
+        (before.kinase_total, after.kinase_total, 1),
+        (before.phosphatase_total, after.phosphatase_total, 2),
     ):
         ratio = total_after / total_before
         if index == 1:
@@ -80,9 +95,22 @@ def mass_action_reference(
         ]
 
     sol = solve_ivp(
-        rhs, (0.0, t[-1]), [a, b, c1, c2, f1, f2], method="Radau", t_eval=t, rtol=1e-11,
-        atol=1e-15, jac=None,
+        rhs,
+        (0.0, t[-1]),
+        [a, b, c1, c2, f1, f2],
+        method="Radau",
+        t_eval=t,
+        rtol=1e-11,
+        atol=1e-15,
+        jac=None,
     )
     assert sol.success, sol.message
-    keys = ("unmodified", "modified", "kinase_complex", "phosphatase_complex", "free_kinase", "free_phosphatase")
+    keys = (
+        "unmodified",
+        "modified",
+        "kinase_complex",
+        "phosphatase_complex",
+        "free_kinase",
+        "free_phosphatase",
+    )
     return dict(zip(keys, sol.y, strict=True))

@@ -53,7 +53,10 @@ def test_negative_dissociation_rate_is_refused_for_mass_action() -> None:
     [
         ([Step("kinase_total", 0.02, 5.0), Step("kinase_total", 0.03, 5.0)], "same time"),
         ([Ramp("kinase_total", 0.02, 0.0, 10.0), Ramp("kinase_total", 0.03, 5.0, 20.0)], "overlap"),
-        ([Ramp("kinase_total", 0.02, 0.0, 10.0), Step("kinase_total", 0.03, 5.0)], "inside its ramp"),
+        (
+            [Ramp("kinase_total", 0.02, 0.0, 10.0), Step("kinase_total", 0.03, 5.0)],
+            "inside its ramp",
+        ),
     ],
 )
 def test_ambiguous_schedules(changes, match) -> None:

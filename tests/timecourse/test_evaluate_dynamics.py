@@ -9,8 +9,19 @@ from hairtrigger import evaluate
 from hairtrigger.core.evaluate import EVALUATE_KEYS
 from hairtrigger.core.switching import switching_metrics
 
-METRIC_KEYS = {"direction", "readout_start", "readout_end", "half_time", "time_10_90", "time_to_10",
-               "time_to_90", "settling_time", "relaxation_time", "success", "message"}
+METRIC_KEYS = {
+    "direction",
+    "readout_start",
+    "readout_end",
+    "half_time",
+    "time_10_90",
+    "time_to_10",
+    "time_to_90",
+    "settling_time",
+    "relaxation_time",
+    "success",
+    "message",
+}
 
 
 @pytest.mark.parametrize("model", ["quasi_steady", "mass_action"])
@@ -28,7 +39,9 @@ def test_dynamics_block_extends_evaluate(model: str) -> None:
     assert dynamics["up"]["half_time"] == pytest.approx(expected.half_time, rel=1e-12)
     assert dynamics["up"]["readout_end"] == pytest.approx(result["readout_value"], rel=1e-12)
     # At r = 1 the cycle sits at its threshold (symmetric Km), so both relaxation times agree.
-    assert dynamics["relaxation_time_at_threshold"] == pytest.approx(dynamics["relaxation_time"], rel=1e-6)
+    assert dynamics["relaxation_time_at_threshold"] == pytest.approx(
+        dynamics["relaxation_time"], rel=1e-6
+    )
 
 
 def test_dynamics_absent_with_warning_when_kon_too_small() -> None:

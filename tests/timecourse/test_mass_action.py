@@ -16,9 +16,16 @@ from hairtrigger.core.timecourse import time_course
 def assert_conserved(course, rel: float = 1e-9) -> None:
     """Substrate and both enzymes conserved at every sample, all species non-negative."""
     w = course.substrate_total
-    total = course["unmodified"] + course["modified"] + course["kinase_complex"] + course["phosphatase_complex"]
+    total = (
+        course["unmodified"]
+        + course["modified"]
+        + course["kinase_complex"]
+        + course["phosphatase_complex"]
+    )
     np.testing.assert_allclose(total, w, rtol=rel, atol=0)
-    np.testing.assert_allclose(course.free_kinase + course["kinase_complex"], course.kinase_total, rtol=rel)
+    np.testing.assert_allclose(
+        course.free_kinase + course["kinase_complex"], course.kinase_total, rtol=rel
+    )
     np.testing.assert_allclose(
         course.free_phosphatase + course["phosphatase_complex"], course.phosphatase_total, rtol=rel
     )
@@ -30,9 +37,23 @@ def assert_conserved(course, rel: float = 1e-9) -> None:
 
 CASES = [
     pytest.param({}, {"kinase_total": 0.02}, 300.0, id="scarce-enzymes-up"),
-    pytest.param({"kinase_total": 0.5, "phosphatase_total": 0.3}, {"kinase_total": 0.2}, 60.0, id="abundant-down"),
-    pytest.param({"kinase_km": 0.01, "phosphatase_km": 0.01, "kinase_kon": 1000.0, "phosphatase_kon": 1000.0},
-                 {"phosphatase_total": 0.004}, 500.0, id="saturated-phosphatase-down"),
+    pytest.param(
+        {"kinase_total": 0.5, "phosphatase_total": 0.3},
+        {"kinase_total": 0.2},
+        60.0,
+        id="abundant-down",
+    ),
+    pytest.param(
+        {
+            "kinase_km": 0.01,
+            "phosphatase_km": 0.01,
+            "kinase_kon": 1000.0,
+            "phosphatase_kon": 1000.0,
+        },
+        {"phosphatase_total": 0.004},
+        500.0,
+        id="saturated-phosphatase-down",
+    ),
     pytest.param({}, {"kinase_kcat": 3.0, "phosphatase_km": 0.2}, 200.0, id="turnover-and-km"),
 ]
 
@@ -55,16 +76,22 @@ def test_settles_to_mass_action_steady_state(cycle) -> None:
     course = time_course(cycle, {"kinase_total": 0.03}, 3000.0, 50, model="mass_action")
     final = mass_action_state(cycle.replace(kinase_total=0.03).arrays())
     assert course["modified"][-1] == pytest.approx(float(final.modified), rel=1e-7)
-    assert course["phosphatase_complex"][-1] == pytest.approx(float(final.phosphatase_complex), rel=1e-7)
+    assert course["phosphatase_complex"][-1] == pytest.approx(
+        float(final.phosphatase_complex), rel=1e-7
+    )
 
 
 def test_starts_from_steady_state_without_drift(cycle) -> None:
-    course = time_course(cycle, {"phosphatase_total": cycle.phosphatase_total}, 500.0, 20, model="mass_action")
+    course = time_course(
+        cycle, {"phosphatase_total": cycle.phosphatase_total}, 500.0, 20, model="mass_action"
+    )
     assert np.ptp(course["modified"]) < 1e-10
 
 
 def test_ramps_and_timed_steps_match_reference() -> None:
-    before = make_cycle(kinase_total=0.02, phosphatase_total=0.05, kinase_km=0.1, phosphatase_km=0.08)
+    before = make_cycle(
+        kinase_total=0.02, phosphatase_total=0.05, kinase_km=0.1, phosphatase_km=0.08
+    )
     schedule = [Ramp("kinase_total", 0.06, 5.0, 45.0), Ramp("phosphatase_total", 0.02, 20.0, 60.0)]
     course = time_course(before, schedule, 120.0, 121, model="mass_action")
     assert course.success
@@ -82,24 +109,48 @@ def test_ramps_and_timed_steps_match_reference() -> None:
 def test_enzyme_removal_is_proportional_and_releases_substrate() -> None:
     before = make_cycle(kinase_total=0.4, phosphatase_total=0.4)
     start = mass_action_state(before.arrays())
-    course = time_course(before, [Step("kinase_total", 0.1, 0.0), Step("phosphatase_total", 0.2, 0.0)],
-                         1.0, 2, model="mass_action")
-    assert course["kinase_complex"][0] == pytest.approx(0.25 * float(start.kinase_complex), rel=1e-14)
-    assert course["phosphatase_complex"][0] == pytest.approx(0.5 * float(start.phosphatase_complex), rel=1e-14)
+    course = time_course(
+        before,
+        [Step("kinase_total", 0.1, 0.0), Step("phosphatase_total", 0.2, 0.0)],
+        1.0,
+        2,
+        model="mass_action",
+    )
+    assert course["kinase_complex"][0] == pytest.approx(
+        0.25 * float(start.kinase_complex), rel=1e-14
+    )
+    assert course["phosphatase_complex"][0] == pytest.approx(
+        0.5 * float(start.phosphatase_complex), rel=1e-14
+    )
     released = 0.5 * float(start.phosphatase_complex)
     assert course["modified"][0] == pytest.approx(float(start.modified) + released, rel=1e-14)
     assert_conserved(course)
 
 
 def test_compiled_start_equals_core_steady_state() -> None:
-    for changes in ({}, {"kinase_km": 1e-4, "phosphatase_km": 1e-4}, {"kinase_total": 2.0, "phosphatase_total": 0.3}):
+    for changes in (
+        {},
+        {"kinase_km": 1e-4, "phosphatase_km": 1e-4},
+        {"kinase_total": 2.0, "phosphatase_total": 0.3},
+    ):
         c = make_cycle(**changes)
         out = np.empty(3)
-        _radau.mass_action_start(c.substrate_total, c.kinase_total, c.kinase_kcat, c.kinase_km,
-                                 c.phosphatase_total, c.phosphatase_kcat, c.phosphatase_km, out)
+        _radau.mass_action_start(
+            c.substrate_total,
+            c.kinase_total,
+            c.kinase_kcat,
+            c.kinase_km,
+            c.phosphatase_total,
+            c.phosphatase_kcat,
+            c.phosphatase_km,
+            out,
+        )
         core = mass_action_state(c.arrays())
-        np.testing.assert_allclose(out, [float(core.modified), float(core.kinase_complex),
-                                         float(core.phosphatase_complex)], rtol=1e-13)
+        np.testing.assert_allclose(
+            out,
+            [float(core.modified), float(core.kinase_complex), float(core.phosphatase_complex)],
+            rtol=1e-13,
+        )
 
 
 STIFF = [
@@ -112,8 +163,13 @@ STIFF = [
 @pytest.mark.parametrize(("kon", "km_ratio"), STIFF)
 def test_stiff_extremes_finish_and_conserve(kon: float, km_ratio: float) -> None:
     """Fast binding (kon up to 1e6 per uM per s) and Km/substrate down to 1e-4."""
-    before = make_cycle(kinase_km=km_ratio, phosphatase_km=km_ratio, kinase_kon=kon, phosphatase_kon=kon,
-                        kinase_total=0.009)
+    before = make_cycle(
+        kinase_km=km_ratio,
+        phosphatase_km=km_ratio,
+        kinase_kon=kon,
+        phosphatase_kon=kon,
+        kinase_total=0.009,
+    )
     course = time_course(before, {"kinase_total": 0.011}, 3000.0, 200, model="mass_action")
     assert course.success, course.message
     assert np.all(np.isfinite(course.as_array()))

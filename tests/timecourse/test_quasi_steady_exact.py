@@ -4,37 +4,49 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from _tc_helpers import make_cycle
+from _tc_references import quasi_steady_reference
 
 from hairtrigger.core.schedule import Ramp, Step
 from hairtrigger.core.timecourse import COURSE_KEYS, QuasiSteadyTransit, time_course
-
-from _tc_helpers import make_cycle
-from _tc_references import quasi_steady_reference
 
 CASES = [
     # (changes to the base cycle, kinase amount after the step, t_end)
     pytest.param({}, 0.02, 300.0, id="michaelian-up"),
     pytest.param({"kinase_km": 1e-4, "phosphatase_km": 1e-4}, 0.011, 2000.0, id="zero-order-up"),
     pytest.param(
-        {"kinase_km": 1e-4, "phosphatase_km": 1e-4, "kinase_total": 0.011}, 0.009, 2000.0,
+        {"kinase_km": 1e-4, "phosphatase_km": 1e-4, "kinase_total": 0.011},
+        0.009,
+        2000.0,
         id="zero-order-down",
     ),
     pytest.param({"kinase_km": 10.0, "phosphatase_km": 3.0}, 0.03, 5000.0, id="first-order"),
-    pytest.param({"kinase_km": 0.01, "phosphatase_km": 0.2, "substrate_total": 5.0}, 0.004, 3000.0, id="asymmetric"),
+    pytest.param(
+        {"kinase_km": 0.01, "phosphatase_km": 0.2, "substrate_total": 5.0},
+        0.004,
+        3000.0,
+        id="asymmetric",
+    ),
     pytest.param({"kinase_total": 0.005}, 0.01, 400.0, id="to-V1-equal-V2"),
     pytest.param({}, 0.010000001, 400.0, id="tiny-step-near-V1-equal-V2"),
 ]
 
 
 @pytest.mark.parametrize(("changes", "kinase_after", "t_end"), CASES)
-def test_exact_solution_matches_lsoda(changes: dict[str, float], kinase_after: float, t_end: float) -> None:
+def test_exact_solution_matches_lsoda(
+    changes: dict[str, float], kinase_after: float, t_end: float
+) -> None:
     before = make_cycle(**changes)
     after = before.replace(kinase_total=kinase_after)
     course = time_course(before, {"kinase_total": kinase_after}, t_end, 200)
     assert course.method == "exact" and course.success
     reference = quasi_steady_reference(
-        before, lambda _t: after.kinase_vmax, after.phosphatase_vmax, after.kinase_km,
-        after.phosphatase_km, course.t,
+        before,
+        lambda _t: after.kinase_vmax,
+        after.phosphatase_vmax,
+        after.kinase_km,
+        after.phosphatase_km,
+        course.t,
     )
     w = before.substrate_total
     assert np.max(np.abs(course["modified"] - reference)) <= 1e-9 * w
@@ -76,7 +88,11 @@ def test_exact_equals_compiled_ode_path() -> None:
 
 def test_timed_steps_chain_exact_segments() -> None:
     before = make_cycle(kinase_km=0.02, phosphatase_km=0.02)
-    steps = [Step("kinase_total", 0.02, 0.0), Step("kinase_total", 0.006, 150.0), Step("phosphatase_kcat", 2.0, 400.0)]
+    steps = [
+        Step("kinase_total", 0.02, 0.0),
+        Step("kinase_total", 0.006, 150.0),
+        Step("phosphatase_kcat", 2.0, 400.0),
+    ]
     course = time_course(before, steps, 900.0, 181)
     assert course.method == "exact"
 
@@ -85,10 +101,16 @@ def test_timed_steps_chain_exact_segments() -> None:
 
     # Reference: integrate piecewise (restart at each step time so LSODA never steps across one).
     pieces, b0 = [], None
-    for start, end, v1_value, v2_value in ((0.0, 150.0, 0.02, 0.01), (150.0, 400.0, 0.006, 0.01), (400.0, 900.0, 0.006, 0.02)):
+    for start, end, v1_value, v2_value in (
+        (0.0, 150.0, 0.02, 0.01),
+        (150.0, 400.0, 0.006, 0.01),
+        (400.0, 900.0, 0.006, 0.02),
+    ):
         local = course.t[(course.t >= start) & ((course.t < end) | (end == 900.0))] - start
         grid = np.union1d(local, [end - start])
-        ref = quasi_steady_reference(before, lambda _t, v=v1_value: v, v2_value, 0.02, 0.02, grid, b0=b0)
+        ref = quasi_steady_reference(
+            before, lambda _t, v=v1_value: v, v2_value, 0.02, 0.02, grid, b0=b0
+        )
         pieces.append(ref[np.isin(grid, local)])
         b0 = float(ref[-1])
     assert v1(0.0) == 0.02

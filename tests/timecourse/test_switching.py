@@ -56,17 +56,30 @@ def test_zero_order_ten_to_ninety_time() -> None:
 
 @pytest.mark.parametrize("model", ["quasi_steady", "mass_action"])
 @pytest.mark.parametrize(("before", "after"), [(0.005, 0.01), (0.01, 0.005), (0.004, 0.03)])
-def test_metrics_agree_with_crossings_of_a_fine_course(model: str, before: float, after: float) -> None:
+def test_metrics_agree_with_crossings_of_a_fine_course(
+    model: str, before: float, after: float
+) -> None:
     """Cross-check: read the crossings off a dense course by linear interpolation."""
-    c = make_cycle(kinase_km=0.02, phosphatase_km=0.02, kinase_kon=500.0, phosphatase_kon=500.0,
-                   kinase_total=before)
+    c = make_cycle(
+        kinase_km=0.02,
+        phosphatase_km=0.02,
+        kinase_kon=500.0,
+        phosphatase_kon=500.0,
+        kinase_total=before,
+    )
     metrics = switching_metrics(c, {"kinase_total": after}, model=model)
     assert metrics.success
     t_end = 3 * metrics.settling_time
     course = time_course(c, {"kinase_total": after}, t_end, 60001, model=model, rtol=1e-10)
-    progress = (course["readout"] - metrics.readout_start) / (metrics.readout_end - metrics.readout_start)
-    for level, value in ((0.1, metrics.time_to_10), (0.5, metrics.half_time), (0.9, metrics.time_to_90),
-                         (0.99, metrics.settling_time)):
+    progress = (course["readout"] - metrics.readout_start) / (
+        metrics.readout_end - metrics.readout_start
+    )
+    for level, value in (
+        (0.1, metrics.time_to_10),
+        (0.5, metrics.half_time),
+        (0.9, metrics.time_to_90),
+        (0.99, metrics.settling_time),
+    ):
         i = int(np.argmax(progress >= level))
         t_cross = np.interp(level, progress[i - 1 : i + 1], course.t[i - 1 : i + 1])
         assert value == pytest.approx(t_cross, rel=1e-5, abs=1e-6 * t_end), level
@@ -74,8 +87,16 @@ def test_metrics_agree_with_crossings_of_a_fine_course(model: str, before: float
 
 
 def test_mass_action_approaches_quasi_steady_when_enzymes_scarce_and_binding_fast() -> None:
-    c = make_cycle(kinase_total=1e-4, phosphatase_total=1e-4, kinase_km=0.05, phosphatase_km=0.05,
-                   kinase_kon=1e5, phosphatase_kon=1e5, kinase_kcat=100.0, phosphatase_kcat=100.0)
+    c = make_cycle(
+        kinase_total=1e-4,
+        phosphatase_total=1e-4,
+        kinase_km=0.05,
+        phosphatase_km=0.05,
+        kinase_kon=1e5,
+        phosphatase_kon=1e5,
+        kinase_kcat=100.0,
+        phosphatase_kcat=100.0,
+    )
     qs = switching_metrics(c, {"kinase_total": 2e-4}, model="quasi_steady", readout="free_modified")
     ma = switching_metrics(c, {"kinase_total": 2e-4}, model="mass_action", readout="free_modified")
     assert ma.half_time == pytest.approx(qs.half_time, rel=2e-3)
@@ -87,7 +108,9 @@ def test_mass_action_relaxation_time_matches_decay_of_a_small_step() -> None:
     c = make_cycle(kinase_total=0.2, phosphatase_total=0.1, kinase_kon=20.0, phosphatase_kon=40.0)
     after = c.replace(kinase_total=0.2002)
     tau = float(relaxation_time(after.arrays(), "mass_action"))
-    course = time_course(c, {"kinase_total": 0.2002}, 30 * tau, 3001, model="mass_action", rtol=1e-12)
+    course = time_course(
+        c, {"kinase_total": 0.2002}, 30 * tau, 3001, model="mass_action", rtol=1e-12
+    )
     final = float(steady_state(after.arrays(), "mass_action").modified)
     gap = np.abs(course["modified"] - final)
     window = (course.t > 8 * tau) & (course.t < 14 * tau)

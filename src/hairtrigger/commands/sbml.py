@@ -28,7 +28,9 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("file", metavar="FILE", help="snapshot file (JSON)")
-    parser.add_argument("-o", "--output", required=True, metavar="OUT.xml", help="SBML file to write")
+    parser.add_argument(
+        "-o", "--output", required=True, metavar="OUT.xml", help="SBML file to write"
+    )
     parser.add_argument("--force", action="store_true", help="overwrite OUT.xml if it exists")
     parser.add_argument(
         "--model", choices=("quasi_steady", "mass_action"), help="override the file's model"

@@ -37,11 +37,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
     )
     parser.add_argument("file", metavar="FILE", help="snapshot file (JSON)")
     parser.add_argument(
-        "--step", action="append", default=[], metavar="KEY=VALUE[@TIME]",
+        "--step",
+        action="append",
+        default=[],
+        metavar="KEY=VALUE[@TIME]",
         help="set a parameter at t = 0 (or at TIME s); repeatable",
     )
     parser.add_argument(
-        "--ramp", action="append", default=[], metavar="KEY=VALUE@START:END",
+        "--ramp",
+        action="append",
+        default=[],
+        metavar="KEY=VALUE@START:END",
         help="move a parameter linearly to VALUE between START and END s; repeatable",
     )
     parser.add_argument("--t-end", type=float, required=True, metavar="T", help="end time, s")

@@ -2,8 +2,8 @@
 
 from .evaluate import EVALUATE_KEYS, MAP_MEASURES, evaluate, evaluate_arrays, steepness_map
 from .params import CYCLE_KEYS, CYCLE_UNITS, MODELS, READOUTS, Cycle
-from .steady import SteadyState, goldbeter_koshland, steady_state
 from .schedule import STEP_KEYS, Ramp, Schedule, Step
+from .steady import SteadyState, goldbeter_koshland, steady_state
 from .steepness import inverse_state, peak_sensitivity, readout_ceiling, thresholds
 from .switching import (
     SwitchingMetrics,

@@ -39,7 +39,7 @@ import numpy as np
 try:  # numba is an accelerator, not a requirement
     from numba import njit
 
-    HAVE_NUMBA: Final[bool] = True
+    HAVE_NUMBA = True
 except ImportError:  # pragma: no cover - exercised only where numba is missing
     HAVE_NUMBA = False
 
@@ -380,7 +380,9 @@ def _segment(  # type: ignore[no-untyped-def]  # noqa: C901 - one integrator loo
                 m_cplx = _MU_COMPLEX / h
                 for i in range(3):
                     for j in range(n):
-                        wmat[i, j] = _TI[i, 0] * z0[0, j] + _TI[i, 1] * z0[1, j] + _TI[i, 2] * z0[2, j]
+                        wmat[i, j] = (
+                            _TI[i, 0] * z0[0, j] + _TI[i, 1] * z0[1, j] + _TI[i, 2] * z0[2, j]
+                        )
                         z[i, j] = z0[i, j]
                 for j in range(n):
                     scale3[j] = scale[j]
@@ -441,9 +443,13 @@ def _segment(  # type: ignore[no-untyped-def]  # noqa: C901 - one integrator loo
                     for i in range(3):
                         for j in range(n):
                             z[i, j] = (
-                                _T[i, 0] * wmat[0, j] + _T[i, 1] * wmat[1, j] + _T[i, 2] * wmat[2, j]
+                                _T[i, 0] * wmat[0, j]
+                                + _T[i, 1] * wmat[1, j]
+                                + _T[i, 2] * wmat[2, j]
                             )
-                    if dw_norm == 0.0 or (rate >= 0.0 and rate / (1.0 - rate) * dw_norm < newton_tol):
+                    if dw_norm == 0.0 or (
+                        rate >= 0.0 and rate / (1.0 - rate) * dw_norm < newton_tol
+                    ):
                         converged = True
                         break
                     dw_norm_old = dw_norm
@@ -543,7 +549,20 @@ def _predict_factor(h_abs, h_abs_old, error_norm, error_norm_old):  # type: igno
 
 @njit(cache=True)
 def integrate(  # type: ignore[no-untyped-def]
-    model, y0, consts, seg_t0, seg_t1, seg_p0, seg_dp, seg_prev, t_out, rtol, atol, max_steps, out, stats
+    model,
+    y0,
+    consts,
+    seg_t0,
+    seg_t1,
+    seg_p0,
+    seg_dp,
+    seg_prev,
+    t_out,
+    rtol,
+    atol,
+    max_steps,
+    out,
+    stats,
 ):
     """Integrate over all schedule segments, writing one state row per sample into `out`.
 
@@ -601,8 +620,21 @@ def integrate(  # type: ignore[no-untyped-def]
         last = s == nseg - 1
         if seg_t1[s] > t0:
             status, i_out = _segment(
-                model, y, t0, seg_t1[s], seg_p0[s], seg_dp[s], consts, t_out, i_out, last,
-                rtol, atol, max_steps, out, stats,
+                model,
+                y,
+                t0,
+                seg_t1[s],
+                seg_p0[s],
+                seg_dp[s],
+                consts,
+                t_out,
+                i_out,
+                last,
+                rtol,
+                atol,
+                max_steps,
+                out,
+                stats,
             )
             if status != 0:
                 return status

@@ -112,7 +112,8 @@ def evaluate(
     -------
     dict
         The keys of ``hairtrigger evaluate`` (`EVALUATE_KEYS`, then ``relative``,
-        ``dynamics`` and ``warnings``). Absolute thresholds are fractions of total substrate, relative ones
+        ``dynamics`` and ``warnings``). Absolute thresholds are fractions of total substrate,
+        relative ones
         fractions of the readout ceiling; a quantity that does not exist is None and a warning
         says why. ``dynamics`` (`hairtrigger.core.switching.default_dynamics`) times the
         response to the kinase amount halved (``down``) and restored (``up``) from steady

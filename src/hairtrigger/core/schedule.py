@@ -169,7 +169,7 @@ class Schedule:
     def _check_overlaps(self, key: str) -> None:
         steps = sorted(c.time for c in self.changes if isinstance(c, Step) and c.key == key)
         ramps = sorted(
-            ((c.start, c.end) for c in self.changes if isinstance(c, Ramp) and c.key == key)
+            (c.start, c.end) for c in self.changes if isinstance(c, Ramp) and c.key == key
         )
         for first, second in zip(steps, steps[1:], strict=False):
             if first == second:
@@ -182,13 +182,17 @@ class Schedule:
         for time in steps:
             for start, end in ramps:
                 if start < time < end:
-                    msg = f"a step of `{key}` at {time!r} s falls inside its ramp ({start!r}–{end!r} s)"
+                    msg = (
+                        f"a step of `{key}` at {time!r} s falls inside its ramp "
+                        f"({start!r}–{end!r} s)"
+                    )
                     raise ValueError(msg)
 
     @classmethod
     def coerce(cls, steps: Any) -> Schedule:
         """Build a schedule from a mapping ``{key: value}`` (steps at t = 0), a `Step`, a
-        `Ramp`, a `Schedule`, or an iterable of `Step`/`Ramp` objects."""  # noqa: D205
+        `Ramp`, a `Schedule`, or an iterable of `Step`/`Ramp` objects.
+        """  # noqa: D205
         if isinstance(steps, Schedule):
             return steps
         if isinstance(steps, Step | Ramp):

@@ -57,7 +57,7 @@ def _mass_action_jacobian(params: Mapping[str, ArrayLike]) -> FloatArray:
     free2 = _get(params, "phosphatase_total") - state.phosphatase_complex
     a, b = state.unmodified, state.modified
     d2 = a2 * m2 - k2
-    entries = [
+    entries: list[list[FloatArray | float]] = [
         [-a2 * free2, k1, a2 * b + d2],
         [-a1 * free1, -a1 * (free1 + a + m1), -a1 * free1],
         [a2 * free2, 0.0, -a2 * (b + m2)],
@@ -173,8 +173,17 @@ class SwitchingMetrics:
         """JSON-ready dict (NaN as None)."""
         out: dict[str, Any] = {}
         for key in (
-            "direction", "readout_start", "readout_end", "half_time", "time_10_90",
-            "time_to_10", "time_to_90", "settling_time", "relaxation_time", "success", "message",
+            "direction",
+            "readout_start",
+            "readout_end",
+            "half_time",
+            "time_10_90",
+            "time_to_10",
+            "time_to_90",
+            "settling_time",
+            "relaxation_time",
+            "success",
+            "message",
         ):
             value = getattr(self, key)
             if isinstance(value, float):
@@ -194,8 +203,14 @@ def _step_schedule(steps: StepsLike) -> Schedule:
 
 
 def _metrics(
-    direction: str, r0: float, r1: float, times: FloatArray, tau: float,
-    success: bool = True, status: int = 0, message: str = "finished",
+    direction: str,
+    r0: float,
+    r1: float,
+    times: FloatArray,
+    tau: float,
+    success: bool = True,
+    status: int = 0,
+    message: str = "finished",
 ) -> SwitchingMetrics:
     t10, t50, t90, t99 = (float(x) for x in times)
     return SwitchingMetrics(
@@ -234,8 +249,14 @@ def _hermite_crossings(
 
 
 def _mass_action_metrics(
-    before: Cycle, after: Cycle, schedule: Schedule, readout: str, direction: str,
-    r0: float, r1: float, tau: float,
+    before: Cycle,
+    after: Cycle,
+    schedule: Schedule,
+    readout: str,
+    direction: str,
+    r0: float,
+    r1: float,
+    tau: float,
 ) -> SwitchingMetrics:
     levels = np.asarray(LEVELS)
     # Horizon: the quasi-steady transit to 99.99 % (includes the near-linear zero-order phase)
@@ -272,9 +293,7 @@ def _mass_action_metrics(
     else:
         free2 = after.phosphatase_total - c2
         rate = (
-            after.kinase_kcat * c1
-            - after.phosphatase_kon * b * free2
-            + after.phosphatase_koff * c2
+            after.kinase_kcat * c1 - after.phosphatase_kon * b * free2 + after.phosphatase_koff * c2
         )
     slope = rate / w / (r1 - r0)
     times = _hermite_crossings(course.t, progress, slope, levels)
@@ -321,7 +340,9 @@ def switching_metrics(
     tau = float(relaxation_time(after.arrays(), model))
     nan = np.full(4, np.nan)
     if r1 == r0:
-        return _metrics("none", r0, r1, nan, tau, True, 0, "the step leaves the steady readout unchanged")
+        return _metrics(
+            "none", r0, r1, nan, tau, True, 0, "the step leaves the steady readout unchanged"
+        )
     direction = "up" if r1 > r0 else "down"
     if model == "quasi_steady":
         w = cycle.substrate_total
@@ -329,8 +350,13 @@ def switching_metrics(
             w, cycle.kinase_vmax, cycle.phosphatase_vmax, cycle.kinase_km, cycle.phosphatase_km
         )
         transit = QuasiSteadyTransit(
-            w, after.kinase_vmax, after.phosphatase_vmax, after.kinase_km, after.phosphatase_km,
-            b0, a0,
+            w,
+            after.kinase_vmax,
+            after.phosphatase_vmax,
+            after.kinase_km,
+            after.phosphatase_km,
+            b0,
+            a0,
         )
         return _metrics(direction, r0, r1, transit.time_at_fraction(np.asarray(LEVELS)), tau)
     return _mass_action_metrics(cycle, after, schedule, readout, direction, r0, r1, tau)

@@ -163,7 +163,10 @@ _PSI_SERIES: Final[tuple[float, ...]] = tuple((-1.0) ** k / (k + 2) for k in ran
 def _both_forms(w: float, v1: float, v2: float, m1: float, m2: float) -> tuple[float, float]:
     """Steady modified and unmodified substrate (µM), each from its own accurate formula."""
     both = goldbeter_koshland(
-        np.array([v1, v2]), np.array([v2, v1]), np.array([m1 / w, m2 / w]), np.array([m2 / w, m1 / w])
+        np.array([v1, v2]),
+        np.array([v2, v1]),
+        np.array([m1 / w, m2 / w]),
+        np.array([m2 / w, m1 / w]),
     )
     return float(both[0]) * w, float(both[1]) * w
 
@@ -335,7 +338,11 @@ def check_dissociation_rates(segments: Segments, cycle: Cycle) -> None:
         ("kinase", cycle.kinase_kon, 2, 1),
         ("phosphatase", cycle.phosphatase_kon, 5, 4),
     ):
-        for values, when in ((segments.prev, "before"), (segments.p0, "at"), (ends, "at the end of")):
+        for values, when in (
+            (segments.prev, "before"),
+            (segments.p0, "at"),
+            (ends, "at the end of"),
+        ):
             koff = kon * values[:, km_index] - values[:, kcat_index]
             bad = np.flatnonzero(koff < 0.0)
             if bad.size:
@@ -354,7 +361,9 @@ def _exact_quasi_steady(
     cycle: Cycle, segments: Segments, t: FloatArray
 ) -> tuple[FloatArray, FloatArray]:
     w = cycle.substrate_total
-    b, a = _both_forms(w, cycle.kinase_vmax, cycle.phosphatase_vmax, cycle.kinase_km, cycle.phosphatase_km)
+    b, a = _both_forms(
+        w, cycle.kinase_vmax, cycle.phosphatase_vmax, cycle.kinase_km, cycle.phosphatase_km
+    )
     modified = np.empty_like(t)
     unmodified = np.empty_like(t)
     index = np.searchsorted(segments.t0, t, side="right") - 1
@@ -387,15 +396,23 @@ def _integrate(
     w = cycle.substrate_total
     consts = np.array([w, cycle.kinase_kon, cycle.phosphatase_kon])
     if model == "quasi_steady":
-        b0 = float(goldbeter_koshland(cycle.kinase_vmax, cycle.phosphatase_vmax, cycle.K1, cycle.K2))
+        b0 = float(
+            goldbeter_koshland(cycle.kinase_vmax, cycle.phosphatase_vmax, cycle.K1, cycle.K2)
+        )
         y0 = np.array([b0 * w])
         atol = np.array([ATOL_FACTOR * w])
         code = _radau.QUASI_STEADY
     else:
         y0 = np.empty(3)
         _radau.mass_action_start(
-            w, cycle.kinase_total, cycle.kinase_kcat, cycle.kinase_km,
-            cycle.phosphatase_total, cycle.phosphatase_kcat, cycle.phosphatase_km, y0,
+            w,
+            cycle.kinase_total,
+            cycle.kinase_kcat,
+            cycle.kinase_km,
+            cycle.phosphatase_total,
+            cycle.phosphatase_kcat,
+            cycle.phosphatase_km,
+            y0,
         )
         e1 = min(w, float(np.max(segments.p0[:, 0])))
         e2 = min(w, float(np.max(segments.p0[:, 3])))
@@ -405,8 +422,20 @@ def _integrate(
     stats = np.zeros(4, dtype=np.int64)
     status = int(
         _radau.integrate(
-            code, y0, consts, segments.t0, segments.t1, segments.p0, segments.dp, segments.prev,
-            t, float(rtol), atol, MAX_STEPS, out, stats,
+            code,
+            y0,
+            consts,
+            segments.t0,
+            segments.t1,
+            segments.p0,
+            segments.dp,
+            segments.prev,
+            t,
+            float(rtol),
+            atol,
+            MAX_STEPS,
+            out,
+            stats,
         )
     )
     names = ("steps", "rhs_calls", "jacobians", "factorisations")
@@ -502,7 +531,8 @@ def time_course(
     t = np.linspace(0.0, t_end, points)
     w = cycle.substrate_total
     zeros = np.zeros_like(t)
-    status, message, stats = 0, "finished", {}
+    status, message = 0, "finished"
+    stats: dict[str, int] = {}
     use_exact = model == "quasi_steady" and (
         method == "exact" or (method == "auto" and not segments.has_ramps)
     )

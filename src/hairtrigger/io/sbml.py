@@ -138,14 +138,22 @@ def _add_initial_assignment(model, symbol: str, formula: str) -> None:  # type: 
 
 
 def _add_reaction(  # type: ignore[no-untyped-def]
-    model, ident: str, name: str, reactants: tuple[str, ...], products: tuple[str, ...], formula: str
+    model,
+    ident: str,
+    name: str,
+    reactants: tuple[str, ...],
+    products: tuple[str, ...],
+    formula: str,
 ) -> None:
     libsbml = _libsbml()
     reaction = model.createReaction()
     _check(reaction.setId(ident), f"reaction id {ident}")
     reaction.setName(name)
     reaction.setReversible(False)
-    for species, create in ((reactants, reaction.createReactant), (products, reaction.createProduct)):
+    for species, create in (
+        (reactants, reaction.createReactant),
+        (products, reaction.createProduct),
+    ):
         for ident_species in species:
             reference = create()
             reference.setSpecies(ident_species)
@@ -187,7 +195,9 @@ def _xml_escape(text: str) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
-def cycle_to_sbml(cycle: Cycle, model: str = "mass_action", title: str = "hairtrigger cycle") -> str:
+def cycle_to_sbml(
+    cycle: Cycle, model: str = "mass_action", title: str = "hairtrigger cycle"
+) -> str:
     """Encode a cycle as an SBML Level 3 Version 2 document.
 
     Parameters
@@ -250,7 +260,9 @@ def cycle_to_sbml(cycle: Cycle, model: str = "mass_action", title: str = "hairtr
     c = COMPARTMENT_ID
     if model == "mass_action":
         _add_parameter(sbml, "kinase_koff", cycle.kinase_koff, "kinase unbinding rate d1")
-        _add_parameter(sbml, "phosphatase_koff", cycle.phosphatase_koff, "phosphatase unbinding rate d2")
+        _add_parameter(
+            sbml, "phosphatase_koff", cycle.phosphatase_koff, "phosphatase unbinding rate d2"
+        )
         _add_initial_assignment(sbml, "kinase_koff", "kinase_kon * kinase_km - kinase_kcat")
         _add_initial_assignment(
             sbml, "phosphatase_koff", "phosphatase_kon * phosphatase_km - phosphatase_kcat"
@@ -272,34 +284,70 @@ def cycle_to_sbml(cycle: Cycle, model: str = "mass_action", title: str = "hairtr
         )
         _add_initial_assignment(sbml, "kinase", "kinase_total - kinase_complex")
         _add_initial_assignment(sbml, "phosphatase", "phosphatase_total - phosphatase_complex")
-        reactions = (
-            ("kinase_binding", "kinase binds unmodified substrate", ("unmodified", "kinase"),
-             ("kinase_complex",), f"{c} * kinase_kon * unmodified * kinase"),
-            ("kinase_unbinding", "kinase complex dissociates", ("kinase_complex",),
-             ("unmodified", "kinase"), f"{c} * kinase_koff * kinase_complex"),
-            ("kinase_catalysis", "kinase modifies substrate", ("kinase_complex",),
-             ("modified", "kinase"), f"{c} * kinase_kcat * kinase_complex"),
-            ("phosphatase_binding", "phosphatase binds modified substrate",
-             ("modified", "phosphatase"), ("phosphatase_complex",),
-             f"{c} * phosphatase_kon * modified * phosphatase"),
-            ("phosphatase_unbinding", "phosphatase complex dissociates",
-             ("phosphatase_complex",), ("modified", "phosphatase"),
-             f"{c} * phosphatase_koff * phosphatase_complex"),
-            ("phosphatase_catalysis", "phosphatase demodifies substrate",
-             ("phosphatase_complex",), ("unmodified", "phosphatase"),
-             f"{c} * phosphatase_kcat * phosphatase_complex"),
+        reactions: tuple[tuple[str, str, tuple[str, ...], tuple[str, ...], str], ...] = (
+            (
+                "kinase_binding",
+                "kinase binds unmodified substrate",
+                ("unmodified", "kinase"),
+                ("kinase_complex",),
+                f"{c} * kinase_kon * unmodified * kinase",
+            ),
+            (
+                "kinase_unbinding",
+                "kinase complex dissociates",
+                ("kinase_complex",),
+                ("unmodified", "kinase"),
+                f"{c} * kinase_koff * kinase_complex",
+            ),
+            (
+                "kinase_catalysis",
+                "kinase modifies substrate",
+                ("kinase_complex",),
+                ("modified", "kinase"),
+                f"{c} * kinase_kcat * kinase_complex",
+            ),
+            (
+                "phosphatase_binding",
+                "phosphatase binds modified substrate",
+                ("modified", "phosphatase"),
+                ("phosphatase_complex",),
+                f"{c} * phosphatase_kon * modified * phosphatase",
+            ),
+            (
+                "phosphatase_unbinding",
+                "phosphatase complex dissociates",
+                ("phosphatase_complex",),
+                ("modified", "phosphatase"),
+                f"{c} * phosphatase_koff * phosphatase_complex",
+            ),
+            (
+                "phosphatase_catalysis",
+                "phosphatase demodifies substrate",
+                ("phosphatase_complex",),
+                ("unmodified", "phosphatase"),
+                f"{c} * phosphatase_kcat * phosphatase_complex",
+            ),
         )
     else:
         _add_species(sbml, "unmodified", float(state.unmodified))
         _add_species(sbml, "modified", float(state.modified))
         _add_initial_assignment(sbml, "unmodified", "substrate_total - modified")
         reactions = (
-            ("modification", "kinase modifies substrate (Michaelis-Menten)", ("unmodified",),
-             ("modified",),
-             f"{c} * kinase_kcat * kinase_total * unmodified / (kinase_km + unmodified)"),
-            ("demodification", "phosphatase demodifies substrate (Michaelis-Menten)",
-             ("modified",), ("unmodified",),
-             f"{c} * phosphatase_kcat * phosphatase_total * modified / (phosphatase_km + modified)"),
+            (
+                "modification",
+                "kinase modifies substrate (Michaelis-Menten)",
+                ("unmodified",),
+                ("modified",),
+                f"{c} * kinase_kcat * kinase_total * unmodified / (kinase_km + unmodified)",
+            ),
+            (
+                "demodification",
+                "phosphatase demodifies substrate (Michaelis-Menten)",
+                ("modified",),
+                ("unmodified",),
+                f"{c} * phosphatase_kcat * phosphatase_total * modified"
+                " / (phosphatase_km + modified)",
+            ),
         )
     for ident, name, reactants, products, formula in reactions:
         _add_reaction(sbml, ident, name, reactants, products, formula)
@@ -405,7 +453,9 @@ def _annotated_values(model) -> dict[str, str]:  # type: ignore[no-untyped-def]
         child = annotation.getChild(i)
         if child.getName() == "cycle" and child.getURI() == ANNOTATION_NS:
             attributes = child.getAttributes()
-            return {attributes.getName(j): attributes.getValue(j) for j in range(attributes.getLength())}
+            return {
+                attributes.getName(j): attributes.getValue(j) for j in range(attributes.getLength())
+            }
     return {}
 
 
