@@ -117,7 +117,7 @@ def test_write_is_atomic_and_refuses_overwrite(tmp_path: Path) -> None:
     out = tmp_path / "cycle.xml"
     write_sbml(make_cycle(), out)
     first = out.read_text(encoding="utf-8")
-    with pytest.raises(FileExistsError, match="refusing to overwrite"):
+    with pytest.raises(FileExistsError, match="file exists"):
         write_sbml(make_cycle(kinase_total=0.02), out)
     assert out.read_text(encoding="utf-8") == first
     write_sbml(make_cycle(kinase_total=0.02), out, overwrite=True)

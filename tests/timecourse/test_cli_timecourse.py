@@ -97,7 +97,7 @@ def test_refuses_to_overwrite_unless_forced(snapshot_file, tmp_path: Path) -> No
     result = run_cli(
         "timecourse", str(path), "--step", "kinase_total=0.02", "--t-end", "10", "--csv", str(out)
     )
-    assert result.returncode != 0 and "refusing to overwrite" in result.stderr
+    assert result.returncode != 0 and "file exists" in result.stderr
     assert out.read_text(encoding="utf-8") == "keep me\n"
     result = run_cli(
         "timecourse",
@@ -172,7 +172,7 @@ def test_sbml_command_writes_consistent_model(snapshot_file, tmp_path: Path, mod
     assert read_sbml_parameters(text) == cycle
     assert ("kinase_binding" in text) == (model == "mass_action")
     again = run_cli("sbml", str(path), "-o", str(out))
-    assert again.returncode != 0 and "refusing to overwrite" in again.stderr
+    assert again.returncode != 0 and "file exists" in again.stderr
     assert len(again.stderr.strip().splitlines()) == 1
     assert run_cli("sbml", str(path), "-o", str(out), "--force").returncode == 0
 

@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
-from . import UserError
+from ..core.params import MODELS
+from ..io.sbml import cycle_to_sbml
+from ._files import EXAMPLE_PREFIX, check_output_path, read_snapshot, write_output
 
 EPILOG = """\
 The mass-action model is written as six elementary reactions (binding, unbinding and
@@ -18,7 +19,7 @@ example:
 """
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``sbml`` sub-command."""
     parser = subparsers.add_parser(
         "sbml",
@@ -27,29 +28,25 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    parser.add_argument("file", metavar="FILE", help="snapshot file (JSON)")
+    parser.add_argument(
+        "file",
+        metavar="FILE",
+        help=f"snapshot file (.json), or {EXAMPLE_PREFIX}NAME for a bundled example",
+    )
     parser.add_argument(
         "-o", "--output", required=True, metavar="OUT.xml", help="SBML file to write"
     )
-    parser.add_argument("--force", action="store_true", help="overwrite OUT.xml if it exists")
-    parser.add_argument(
-        "--model", choices=("quasi_steady", "mass_action"), help="override the file's model"
-    )
+    parser.add_argument("--force", action="store_true", help="replace an existing OUT.xml")
+    parser.add_argument("--model", choices=MODELS, help="model to use instead of the file's")
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
     """Write the SBML file."""
-    from ..io import load_snapshot
-    from ..io.sbml import write_sbml
-
-    out = Path(args.output)
-    if out.exists() and not args.force:
-        msg = f"{out} exists; refusing to overwrite it (pass --force)"
-        raise UserError(msg)
-    snapshot = load_snapshot(args.file)
+    check_output_path(args.output, args.force, inputs=(args.file,))
+    snapshot = read_snapshot(args.file)
     model = args.model or snapshot.model
-    title = getattr(snapshot, "title", None) or "hairtrigger cycle"
-    write_sbml(snapshot.cycle, out, model=model, title=title, overwrite=args.force)
-    print(f"wrote {out} (SBML Level 3 Version 2, {model} model)")
+    title = snapshot.title or "hairtrigger cycle"
+    write_output(cycle_to_sbml(snapshot.cycle, model, title), args.output, args.force)
+    print(f"wrote {args.output} (SBML Level 3 Version 2, {model} model)")
     return 0

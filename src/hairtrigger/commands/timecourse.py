@@ -4,10 +4,11 @@ from __future__ import annotations
 
 import argparse
 import io
-import sys
-from pathlib import Path
 
+from ..core.schedule import Ramp, Step
+from ..core.timecourse import TimeCourse, time_course
 from . import UserError
+from ._files import add_snapshot_arguments, check_output_path, read_snapshot, write_output
 
 HEADER = "t,unmodified,modified,kinase_complex,phosphatase_complex,readout"
 
@@ -23,7 +24,7 @@ example:
 """
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``timecourse`` sub-command."""
     parser = subparsers.add_parser(
         "timecourse",
@@ -35,7 +36,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
         epilog=EPILOG,
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
-    parser.add_argument("file", metavar="FILE", help="snapshot file (JSON)")
+    add_snapshot_arguments(parser)
     parser.add_argument(
         "--step",
         action="append",
@@ -55,13 +56,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
         "--points", type=int, default=200, metavar="N", help="samples on [0, T] (default 200)"
     )
     parser.add_argument("--csv", metavar="OUT", help="write CSV here instead of standard output")
-    parser.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
-    parser.add_argument(
-        "--model", choices=("quasi_steady", "mass_action"), help="override the file's model"
-    )
-    parser.add_argument(
-        "--readout", choices=("free_modified", "total_modified"), help="override the file's readout"
-    )
+    parser.add_argument("--force", action="store_true", help="replace an existing --csv file")
     parser.set_defaults(func=run)
 
 
@@ -73,10 +68,8 @@ def _number(option: str, text: str, what: str) -> float:
         raise UserError(msg) from None
 
 
-def parse_step(text: str):  # type: ignore[no-untyped-def]
+def parse_step(text: str) -> Step:
     """Parse ``KEY=VALUE`` or ``KEY=VALUE@TIME`` into a `Step`."""
-    from ..core.schedule import Step
-
     key, sep, rest = text.partition("=")
     if not sep or not key:
         msg = f"--step {text}: expected KEY=VALUE (for example kinase_total=0.02)"
@@ -90,10 +83,8 @@ def parse_step(text: str):  # type: ignore[no-untyped-def]
         raise UserError(f"--step {text}: {exc}") from None
 
 
-def parse_ramp(text: str):  # type: ignore[no-untyped-def]
+def parse_ramp(text: str) -> Ramp:
     """Parse ``KEY=VALUE@START:END`` into a `Ramp`."""
-    from ..core.schedule import Ramp
-
     key, sep, rest = text.partition("=")
     value_text, at, window = rest.partition("@")
     start_text, colon, end_text = window.partition(":")
@@ -110,7 +101,7 @@ def parse_ramp(text: str):  # type: ignore[no-untyped-def]
         raise UserError(f"{option}: {exc}") from None
 
 
-def format_csv(course) -> str:  # type: ignore[no-untyped-def]
+def format_csv(course: TimeCourse) -> str:
     """The course as CSV text (header, then one row per sample; shortest exact decimals)."""
     buffer = io.StringIO()
     buffer.write(HEADER + "\n")
@@ -121,28 +112,18 @@ def format_csv(course) -> str:  # type: ignore[no-untyped-def]
 
 def run(args: argparse.Namespace) -> int:
     """Compute the course and write it."""
-    from ..core.timecourse import time_course
-    from ..io import load_snapshot
-    from ..io.sbml import write_text_atomic
-
     changes = [parse_step(s) for s in args.step] + [parse_ramp(r) for r in args.ramp]
     if not changes:
         msg = "give at least one --step KEY=VALUE (or --ramp)"
         raise UserError(msg)
-    out = Path(args.csv) if args.csv else None
-    if out is not None and out.exists() and not args.force:
-        msg = f"{out} exists; refusing to overwrite it (pass --force)"
-        raise UserError(msg)
-    snapshot = load_snapshot(args.file)
+    if args.csv is not None:
+        check_output_path(args.csv, args.force, inputs=(args.file,))
+    snapshot = read_snapshot(args.file)
     model = args.model or snapshot.model
     readout = args.readout or snapshot.readout
     course = time_course(snapshot.cycle, changes, args.t_end, args.points, model, readout)
     if not course.success:
-        msg = f"the integration failed at some point before t = {args.t_end:g} s: {course.message}"
+        msg = f"the integration stopped before t = {args.t_end:g} s: {course.message}"
         raise UserError(msg)
-    text = format_csv(course)
-    if out is None:
-        sys.stdout.write(text)
-    else:
-        write_text_atomic(out, text, overwrite=args.force)
+    write_output(format_csv(course), args.csv, args.force)
     return 0

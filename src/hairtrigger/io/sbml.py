@@ -27,12 +27,12 @@ from __future__ import annotations
 
 import math
 import os
-import tempfile
 from pathlib import Path
 from typing import Final
 
 from ..core.params import CYCLE_DESCRIPTIONS, CYCLE_KEYS, MODELS, Cycle, check_choice
 from ..core.steady import steady_state
+from .files import atomic_write
 
 #: Namespace of the annotation holding exact parameter values.
 ANNOTATION_NS: Final[str] = "urn:hairtrigger:sbml:1"
@@ -396,7 +396,7 @@ def write_sbml(
     title: str = "hairtrigger cycle",
     overwrite: bool = False,
 ) -> Path:
-    """Write `cycle_to_sbml` to `path` atomically (a temporary file renamed into place).
+    """Write `cycle_to_sbml` to `path` atomically (`hairtrigger.io.files.atomic_write`).
 
     Parameters
     ----------
@@ -413,36 +413,7 @@ def write_sbml(
         The written path.
     """
     text = cycle_to_sbml(cycle, model, title)
-    return write_text_atomic(Path(path), text, overwrite=overwrite)
-
-
-def write_text_atomic(path: Path, text: str, overwrite: bool = False) -> Path:
-    """Write UTF-8 `text` to `path` through a temporary file in the same folder.
-
-    Nothing is left behind on failure, and an existing file is kept unless `overwrite`.
-    """
-    if path.exists() and not overwrite:
-        msg = f"{path} exists; refusing to overwrite it (pass --force / overwrite=True)"
-        raise FileExistsError(msg)
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        msg = f"folder {folder} does not exist"
-        raise FileNotFoundError(msg)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8", newline="") as stream:
-            stream.write(text)
-            stream.flush()
-            os.fsync(stream.fileno())
-        if not overwrite and path.exists():
-            msg = f"{path} exists; refusing to overwrite it (pass --force / overwrite=True)"
-            raise FileExistsError(msg)
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        raise
-    return path
+    return atomic_write(path, text, overwrite=overwrite)
 
 
 def _annotated_values(model) -> dict[str, str]:  # type: ignore[no-untyped-def]
