@@ -112,7 +112,7 @@ def evaluate(
     -------
     dict
         The keys of ``hairtrigger evaluate`` (`EVALUATE_KEYS`, then ``relative``,
-        ``dynamics`` and ``warnings``). Absolute thresholds are fractions of total substrate,
+        ``warnings`` and ``dynamics``). Absolute thresholds are fractions of total substrate,
         relative ones
         fractions of the readout ceiling; a quantity that does not exist is None and a warning
         says why. ``dynamics`` (`hairtrigger.core.switching.default_dynamics`) times the
@@ -152,8 +152,9 @@ def evaluate(
             "response_coefficient and hill_coefficient do not exist for absolute targets "
             "(see the warnings above); the relative block measures steepness against the ceiling"
         )
-    result["dynamics"] = _dynamics(cycle, model, readout, warnings)
     result["warnings"] = warnings
+    # After the contract's keys; its own problems are appended to the same warnings list.
+    result["dynamics"] = _dynamics(cycle, model, readout, warnings)
     return result
 
 
