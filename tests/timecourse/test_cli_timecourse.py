@@ -134,16 +134,28 @@ def test_refuses_to_overwrite_unless_forced(snapshot_file, tmp_path: Path) -> No
     ],
 )
 def test_bad_steps_give_one_line_error_and_no_file(
-    snapshot_file, tmp_path: Path, args, message
+    snapshot_file, tmp_path: Path, capsys, args, message
 ) -> None:
     path = snapshot_file()
     out = tmp_path / "never.csv"
-    result = run_cli("timecourse", str(path), *args, "--csv", str(out))
-    assert result.returncode != 0
-    lines = result.stderr.strip().splitlines()
-    assert len(lines) == 1 and message in lines[0], result.stderr
-    assert "Traceback" not in result.stderr and result.stdout == ""
+    status = main(["timecourse", str(path), *args, "--csv", str(out)])
+    captured = capsys.readouterr()
+    assert status != 0
+    lines = captured.err.strip().splitlines()
+    assert len(lines) == 1 and message in lines[0], captured.err
+    assert captured.out == ""
     assert not out.exists() and sorted(p.name for p in tmp_path.iterdir()) == ["cycle.json"]
+
+
+def test_bad_step_in_a_real_process_has_no_traceback(snapshot_file, tmp_path: Path) -> None:
+    path = snapshot_file()
+    out = tmp_path / "never.csv"
+    result = run_cli(
+        "timecourse", str(path), "--step", "kinase_total=-1", "--t-end", "5", "--csv", str(out)
+    )
+    assert result.returncode == 2 and result.stdout == ""
+    assert len(result.stderr.strip().splitlines()) == 1 and "Traceback" not in result.stderr
+    assert not out.exists()
 
 
 def test_missing_snapshot_is_one_line(tmp_path: Path) -> None:

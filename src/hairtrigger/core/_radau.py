@@ -36,6 +36,8 @@ from typing import Any, Final
 
 import numpy as np
 
+from .schedule import STEP_KEYS
+
 try:  # numba is an accelerator, not a requirement
     from numba import njit
 
@@ -54,15 +56,9 @@ except ImportError:  # pragma: no cover - exercised only where numba is missing
         return wrap
 
 
-#: Order of the time-dependent parameters in the schedule arrays.
-PARAM_ORDER: Final[tuple[str, ...]] = (
-    "kinase_total",
-    "kinase_kcat",
-    "kinase_km",
-    "phosphatase_total",
-    "phosphatase_kcat",
-    "phosphatase_km",
-)
+#: Order of the time-dependent parameters in the schedule arrays (numba stays out of
+#: `schedule`, so importing hairtrigger never loads it).
+PARAM_ORDER: Final[tuple[str, ...]] = STEP_KEYS
 
 QUASI_STEADY: Final[int] = 0
 MASS_ACTION: Final[int] = 1

@@ -16,13 +16,20 @@ from typing import Any, Final, TypeAlias
 
 import numpy as np
 
-from ._radau import PARAM_ORDER
 from .params import CYCLE_DESCRIPTIONS, CYCLE_KEYS, Cycle, check_positive
 from .steady import FloatArray
 
-#: Cycle keys a schedule may change. Substrate total is fixed (the course conserves it) and
-#: binding rates are properties of the enzymes, not of the intervention.
-STEP_KEYS: Final[tuple[str, ...]] = PARAM_ORDER
+#: Cycle keys a schedule may change, in the order of the solvers' parameter arrays. Substrate
+#: total is fixed (the course conserves it) and binding rates are properties of the enzymes,
+#: not of the intervention.
+STEP_KEYS: Final[tuple[str, ...]] = (
+    "kinase_total",
+    "kinase_kcat",
+    "kinase_km",
+    "phosphatase_total",
+    "phosphatase_kcat",
+    "phosphatase_km",
+)
 
 
 def check_step_key(key: Any) -> str:
