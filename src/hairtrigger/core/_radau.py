@@ -144,8 +144,8 @@ def rhs(model, y, p, dp, consts, f):  # type: ignore[no-untyped-def]
         free2 = e2 - c2
         d2 = a2 * m2 - k2
         # Proportional removal while an enzyme amount falls (rate = d ln E / dt < 0).
-        r1 = min(dp[0], 0.0) / e1
-        r2 = min(dp[3], 0.0) / e2
+        r1 = dp[0] / e1 if dp[0] < 0.0 else 0.0
+        r2 = dp[3] / e2 if dp[3] < 0.0 else 0.0
         f[0] = k1 * c1 - a2 * b * free2 + d2 * c2 - r2 * c2
         f[1] = a1 * (a * free1 - m1 * c1) + r1 * c1
         f[2] = a2 * (b * free2 - m2 * c2) + r2 * c2
@@ -207,8 +207,11 @@ def _lu_factor(a, piv):  # type: ignore[no-untyped-def]
                 a[p, j] = tmp
         if a[k, k] == 0:
             return False
+        # The diagonal keeps its reciprocal: solves then multiply instead of divide.
+        inverse = 1.0 / a[k, k]
+        a[k, k] = inverse
         for i in range(k + 1, n):
-            a[i, k] = a[i, k] / a[k, k]
+            a[i, k] = a[i, k] * inverse
             for j in range(k + 1, n):
                 a[i, j] = a[i, j] - a[i, k] * a[k, j]
     return True
@@ -229,7 +232,7 @@ def _lu_solve(a, piv, b):  # type: ignore[no-untyped-def]
     for i in range(n - 1, -1, -1):
         for j in range(i + 1, n):
             b[i] = b[i] - a[i, j] * b[j]
-        b[i] = b[i] / a[i, i]
+        b[i] = b[i] * a[i, i]
 
 
 @njit(cache=True)
