@@ -22,6 +22,8 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
     "fit",
+    "timecourse",
+    "sbml",
 )
 
 
