@@ -71,7 +71,8 @@ class CopyNumbers:
         Enzyme amounts in molecules (not rounded: the quasi-steady chain only needs the rates;
         the mass-action simulation rounds them, see `integer_enzymes`).
     molecules_per_um : float
-        Molecules per µM in this compartment (N / W), used to convert rate constants.
+        Molecules per µM, N / W (so W is exactly N molecules; with a volume given this is
+        N_A·V rounded with the substrate count), used to convert rate constants.
     volume : float
         Compartment volume, fL (``molecules_per_um / MOLECULES_PER_UM_FL``).
     volume_given : bool
@@ -98,9 +99,10 @@ class CopyNumbers:
             )
             raise ValueError(msg)
         substrate = check_molecules("substrate molecules", round(exact))
-        # The rounded count defines the compartment: rate constants use N / W so that the
-        # chain's K1·N is exactly Km in molecules.
-        return cls._build(cycle, substrate, per_um, volume_given=True, volume=volume)
+        # The rounded count defines the conversion: molecules per µM is N / W (within 0.5/N of
+        # N_A·V), so that Km in molecules is exactly K·N in the chain and in the network alike.
+        return cls._build(cycle, substrate, substrate / cycle.substrate_total,
+                          volume_given=True, volume=volume)
 
     @classmethod
     def from_molecules(cls, cycle: Cycle, molecules: int) -> CopyNumbers:
@@ -134,6 +136,18 @@ class CopyNumbers:
             volume=volume,
             volume_given=volume_given,
         )
+
+    def for_cycle(self, cycle: Cycle) -> CopyNumbers:
+        """The same compartment (substrate count and conversion) holding `cycle`'s enzymes.
+
+        Used after a step in enzyme amount: the substrate count must be unchanged.
+        """
+        if not math.isclose(cycle.substrate_total * self.molecules_per_um, self.substrate,
+                            rel_tol=1e-12):
+            msg = "`substrate_total` cannot change within one compartment (copy numbers fixed)"
+            raise ValueError(msg)
+        return CopyNumbers._build(cycle, self.substrate, self.molecules_per_um,
+                                  self.volume_given, self.volume)
 
     def integer_enzymes(self) -> tuple[int, int]:
         """Kinase and phosphatase counts rounded to whole molecules (each must be ≥ 1).

@@ -86,7 +86,8 @@ class BirthDeathChain:
 
     @classmethod
     def from_copies(cls, cycle: Cycle, copies: CopyNumbers) -> BirthDeathChain:
-        """Chain of `cycle` at the copy numbers `copies` (rates in molecules per second)."""
+        """Chain of `cycle` in the compartment of `copies` (rates in molecules per second)."""
+        copies = copies.for_cycle(cycle)
         return cls(
             molecules=copies.substrate,
             activity_ratio=cycle.activity_ratio,

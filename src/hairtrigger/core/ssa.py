@@ -118,7 +118,9 @@ class MassActionNetwork:
 
     @classmethod
     def from_cycle(cls, cycle: Cycle, copies: CopyNumbers) -> MassActionNetwork:
-        """Network of `cycle` at `copies` (enzymes rounded to whole molecules, each ≥ 1)."""
+        """Network of `cycle` in the compartment of `copies` (enzymes from `cycle`, rounded to
+        whole molecules, each ≥ 1)."""
+        copies = copies.for_cycle(cycle)
         for prefix in ("kinase", "phosphatase"):
             koff = getattr(cycle, f"{prefix}_koff")
             if koff < 0.0:
@@ -437,9 +439,7 @@ def _plan(
     check_choice("model", model, MODELS)
     times = _time_grid(t_end, points)
     after_cycle = _apply_steps(cycle, steps)
-    after_copies = CopyNumbers._build(
-        after_cycle, copies.substrate, copies.molecules_per_um, copies.volume_given, copies.volume
-    )
+    after_copies = copies.for_cycle(after_cycle)
     species = len(SPECIES) if model == "mass_action" else 1
     stored = trajectories * times.size * species
     if stored > MAX_STORED_VALUES:
