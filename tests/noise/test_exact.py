@@ -81,8 +81,13 @@ def test_saturated_unbalanced_is_truncated_geometric(ratio: float) -> None:
 
 @pytest.mark.parametrize(
     ("n_total", "ratio", "k1", "k2"),
-    [(1, 1.0, 0.3, 0.3), (5, 0.7, 0.05, 2.0), (30, 1.1, 0.01, 0.02), (80, 1.0, 0.5, 0.1),
-     (120, 3.0, 1.0, 1.0)],
+    [
+        (1, 1.0, 0.3, 0.3),
+        (5, 0.7, 0.05, 2.0),
+        (30, 1.1, 0.01, 0.02),
+        (80, 1.0, 0.5, 0.1),
+        (120, 3.0, 1.0, 1.0),
+    ],
 )
 def test_matches_null_space_of_generator(n_total: int, ratio: float, k1: float, k2: float) -> None:
     """Detailed balance agrees with a direct solve πQ = 0 of the generator built from the rates
@@ -105,8 +110,13 @@ def test_matches_gamma_function_closed_form() -> None:
     d = stationary_distribution(BirthDeathChain(n_total, ratio, k1, k2))
     n = np.arange(n_total + 1)
     km1, km2 = k1 * n_total, k2 * n_total
-    logp = (n * math.log(ratio) + gammaln(km1 + n_total - n + 1) - gammaln(n_total - n + 1)
-            + gammaln(km2 + n + 1) - gammaln(n + 1))
+    logp = (
+        n * math.log(ratio)
+        + gammaln(km1 + n_total - n + 1)
+        - gammaln(n_total - n + 1)
+        + gammaln(km2 + n + 1)
+        - gammaln(n + 1)
+    )
     p = np.exp(logp - logp.max())
     p /= p.sum()
     np.testing.assert_allclose(d.probabilities, p, rtol=1e-8, atol=1e-300)
@@ -120,7 +130,9 @@ def test_log_probabilities_stay_finite_in_far_tails() -> None:
     assert d.log_probabilities[0] < -700
 
 
-@pytest.mark.parametrize(("n_total", "ratio", "k1", "k2"), [(12, 1.0, 0.2, 0.2), (40, 1.3, 0.05, 0.5)])
+@pytest.mark.parametrize(
+    ("n_total", "ratio", "k1", "k2"), [(12, 1.0, 0.2, 0.2), (40, 1.3, 0.05, 0.5)]
+)
 def test_autocorrelation_quantities_match_poisson_equation(
     n_total: int, ratio: float, k1: float, k2: float
 ) -> None:
@@ -241,8 +253,9 @@ def test_population_response_matches_per_ratio_distributions() -> None:
     ratios = np.geomspace(0.5, 2.0, 23).reshape(1, 23)
     resp = population_response(chain, ratios)
     assert resp.mean_fraction.shape == (1, 23)
-    for r, m, s in zip(ratios.ravel(), resp.mean_fraction.ravel(), resp.sd_fraction.ravel(),
-                       strict=True):
+    for r, m, s in zip(
+        ratios.ravel(), resp.mean_fraction.ravel(), resp.sd_fraction.ravel(), strict=True
+    ):
         d = stationary_distribution(chain.with_activity_ratio(float(r)))
         assert m == pytest.approx(d.mean / 300, rel=1e-10)
         assert s == pytest.approx(d.standard_deviation / 300, rel=1e-9)
@@ -258,8 +271,9 @@ def test_population_response_refuses_bad_ratios() -> None:
             population_response(chain, bad)
 
 
-@pytest.mark.parametrize(("n_total", "k1", "k2"), [(50, 0.01, 0.01), (2000, 0.01, 0.01),
-                                                   (400, 0.1, 1.0), (1, 0.5, 0.5)])
+@pytest.mark.parametrize(
+    ("n_total", "k1", "k2"), [(50, 0.01, 0.01), (2000, 0.01, 0.01), (400, 0.1, 1.0), (1, 0.5, 0.5)]
+)
 def test_population_thresholds_match_brentq(n_total: int, k1: float, k2: float) -> None:
     """The Newton/bisection thresholds agree with scipy.optimize.brentq on the mean."""
     chain = BirthDeathChain(n_total, 1.0, k1, k2)
@@ -270,8 +284,11 @@ def test_population_thresholds_match_brentq(n_total: int, k1: float, k2: float) 
         d = stationary_distribution(chain.with_activity_ratio(math.exp(theta)))
         return d.mean - fraction * n_total
 
-    for fraction, found in ((0.1, result.activity_ratio_10), (0.5, result.activity_ratio_50),
-                            (0.9, result.activity_ratio_90)):
+    for fraction, found in (
+        (0.1, result.activity_ratio_10),
+        (0.5, result.activity_ratio_50),
+        (0.9, result.activity_ratio_90),
+    ):
         root = scipy.optimize.brentq(mean_minus, -30, 30, args=(fraction,), xtol=1e-14)
         assert math.log(found) == pytest.approx(root, abs=1e-9)
     hill = math.log(81) / math.log(result.activity_ratio_90 / result.activity_ratio_10)
@@ -282,7 +299,9 @@ def test_population_hill_is_shallower_and_tends_to_deterministic() -> None:
     """Finite N blurs the switch (Berg, Paulsson & Ehrenberg 2000, Biophys J 79:1228 [P]); the
     deterministic nH is the closed form ln 81 / ln Rv of REFERENCES.md (K = 0.01 → 26.07662
     [F])."""
-    hills = [population_thresholds(BirthDeathChain(n, 1.0, 0.01, 0.01)) for n in (100, 1000, 100000)]
+    hills = [
+        population_thresholds(BirthDeathChain(n, 1.0, 0.01, 0.01)) for n in (100, 1000, 100000)
+    ]
     assert hills[0].deterministic_hill_coefficient == pytest.approx(26.07662, rel=1e-6)
     values = [h.hill_coefficient for h in hills]
     assert values[0] < values[1] < values[2] < 26.07662
@@ -300,8 +319,14 @@ def test_michaelian_limit_keeps_population_hill_near_one() -> None:
 def test_noise_summary_contract_and_values() -> None:
     cycle = make_cycle(substrate=1.0, enzyme=0.01, km=0.01)
     out = noise_summary(cycle, molecules=500)
-    assert list(out)[:6] == ["molecules", "mean_modified", "variance_modified", "fano_factor",
-                             "distribution", "population_hill_coefficient"]
+    assert list(out)[:6] == [
+        "molecules",
+        "mean_modified",
+        "variance_modified",
+        "fano_factor",
+        "distribution",
+        "population_hill_coefficient",
+    ]
     assert out["molecules"] == 500
     assert len(out["distribution"]) == 501
     assert math.fsum(out["distribution"]) == pytest.approx(1.0, abs=1e-12)

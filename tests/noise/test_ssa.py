@@ -54,8 +54,9 @@ def test_reduced_chain_histogram_matches_exact_distribution() -> None:
     chain = BirthDeathChain.from_cycle(cycle, molecules=n_total)
     exact = stationary_distribution(chain)
     t_end = 4.0 * 40  # 40 integrated autocorrelation times (τ ≈ 3.96 s)
-    result = simulate_ensemble(cycle, t_end, trajectories, molecules=n_total, seed=11,
-                               points=points)
+    result = simulate_ensemble(
+        cycle, t_end, trajectories, molecules=n_total, seed=11, points=points
+    )
     assert result.success
     observed = total_variation(histogram(result.counts["modified"], n_total), exact.probabilities)
     spacing = t_end / (points - 1)
@@ -87,8 +88,9 @@ def test_full_network_with_scarce_enzymes_matches_reduced_chain() -> None:
     reduction_error = total_variation(full, chain.probabilities)
     assert reduction_error < 0.01
 
-    result = simulate_ensemble(cycle, 20.0, trajectories, molecules=n_total,
-                               model="mass_action", seed=2, points=21)
+    result = simulate_ensemble(
+        cycle, 20.0, trajectories, molecules=n_total, model="mass_action", seed=2, points=21
+    )
     assert result.success
     sample = histogram(result.counts["modified"] + result.counts["phosphatase_complex"], n_total)
     bound = expected_tv_bound_iid_pooled(full, trajectories) + mcdiarmid_margin(trajectories, DELTA)
@@ -102,8 +104,15 @@ def test_full_network_with_scarce_enzymes_matches_reduced_chain() -> None:
 
 def test_full_network_conserves_substrate_and_enzymes() -> None:
     cycle = make_cycle(enzyme=0.3, km=0.2)
-    result = simulate_ensemble(cycle, 5.0, 20, molecules=50, model="mass_action", seed=4,
-                               initial={"modified": 10, "kinase_complex": 3})
+    result = simulate_ensemble(
+        cycle,
+        5.0,
+        20,
+        molecules=50,
+        model="mass_action",
+        seed=4,
+        initial={"modified": 10, "kinase_complex": 3},
+    )
     counts = result.counts
     total = sum(counts[name] for name in SPECIES)
     assert np.all(total == 50)
@@ -119,12 +128,16 @@ def test_full_network_large_n_recovers_mass_action_steady_state() -> None:
     n_total = 20000
     cycle = make_cycle(enzyme=0.2, km=0.1, kcat=1.0, kon=20.0, ratio=1.5)
     det = mass_action_state(cycle.arrays())
-    result = simulate_ensemble(cycle, 20.0, 2, molecules=n_total, model="mass_action", seed=9,
-                               points=41, burn_in=20.0)
+    result = simulate_ensemble(
+        cycle, 20.0, 2, molecules=n_total, model="mass_action", seed=9, points=41, burn_in=20.0
+    )
     assert result.success
-    for name, value in (("unmodified", det.unmodified), ("modified", det.modified),
-                        ("kinase_complex", det.kinase_complex),
-                        ("phosphatase_complex", det.phosphatase_complex)):
+    for name, value in (
+        ("unmodified", det.unmodified),
+        ("modified", det.modified),
+        ("kinase_complex", det.kinase_complex),
+        ("phosphatase_complex", det.phosphatase_complex),
+    ):
         expected = float(value) * n_total  # W = 1 µM is N molecules
         mean = result.counts[name].mean()
         assert mean == pytest.approx(expected, rel=0.02, abs=15), name
@@ -139,14 +152,22 @@ def test_step_in_kinase_relaxes_to_new_exact_distribution() -> None:
     after = cycle.replace(kinase_total=2.0 * cycle.phosphatase_total)
     exact_after = stationary_distribution(BirthDeathChain.from_cycle(after, molecules=n_total))
     exact_before = stationary_distribution(BirthDeathChain.from_cycle(cycle, molecules=n_total))
-    result = simulate_ensemble(cycle, 30.0, trajectories, molecules=n_total, seed=21, points=31,
-                               steps={"kinase_total": after.kinase_total})
+    result = simulate_ensemble(
+        cycle,
+        30.0,
+        trajectories,
+        molecules=n_total,
+        seed=21,
+        points=31,
+        steps={"kinase_total": after.kinase_total},
+    )
     mean = result.mean()
     assert mean[0] == pytest.approx(exact_before.mean, abs=0.5)
     assert mean[-1] == pytest.approx(exact_after.mean, abs=0.5)
     final = histogram(result.counts["modified"][:, -1], n_total)
-    bound = expected_tv_bound_iid_pooled(exact_after.probabilities, trajectories) + mcdiarmid_margin(
-        trajectories, DELTA)
+    bound = expected_tv_bound_iid_pooled(
+        exact_after.probabilities, trajectories
+    ) + mcdiarmid_margin(trajectories, DELTA)
     assert total_variation(final, exact_after.probabilities) < bound
 
 
@@ -205,8 +226,20 @@ def test_compiled_loop_equals_interpreted_loop() -> None:
         out = np.zeros((3, 7), dtype=np.int64)
         events = np.zeros(3, dtype=np.int64)
         status = np.zeros(3, dtype=np.int64)
-        run(initial, kernels.seed_states(key, 0, 3), times, 20, 8.0, 2.0, 6.0, 3.0, 10**6, out,
-            events, status)
+        run(
+            initial,
+            kernels.seed_states(key, 0, 3),
+            times,
+            20,
+            8.0,
+            2.0,
+            6.0,
+            3.0,
+            10**6,
+            out,
+            events,
+            status,
+        )
         outputs.append((out, events))
     np.testing.assert_array_equal(outputs[0][0], outputs[1][0])
     np.testing.assert_array_equal(outputs[0][1], outputs[1][1])
@@ -218,8 +251,18 @@ def test_compiled_loop_equals_interpreted_loop() -> None:
         out = np.zeros((2, 7, 4), dtype=np.int64)
         events = np.zeros(2, dtype=np.int64)
         status = np.zeros(2, dtype=np.int64)
-        run(initial4, kernels.seed_states(key, 0, 2), times, 3, 4, constants, 10**6, out, events,
-            status)
+        run(
+            initial4,
+            kernels.seed_states(key, 0, 2),
+            times,
+            3,
+            4,
+            constants,
+            10**6,
+            out,
+            events,
+            status,
+        )
         outputs.append(out)
     np.testing.assert_array_equal(outputs[0], outputs[1])
 
@@ -243,8 +286,14 @@ def test_random_streams_are_uniform_and_distinct() -> None:
 def test_progress_reports_every_chunk(monkeypatch) -> None:
     monkeypatch.setattr(ssa, "_EVENTS_PER_CHUNK", 1.0)
     calls: list[tuple[int, int]] = []
-    simulate_ensemble(make_cycle(), 1.0, 4, molecules=20, seed=0,
-                      progress=lambda done, total: calls.append((done, total)))
+    simulate_ensemble(
+        make_cycle(),
+        1.0,
+        4,
+        molecules=20,
+        seed=0,
+        progress=lambda done, total: calls.append((done, total)),
+    )
     assert calls == [(1, 4), (2, 4), (3, 4), (4, 4)]
 
 
@@ -259,8 +308,9 @@ def test_cancel_returns_finished_trajectories(kind: str, monkeypatch) -> None:
 
     cancel = flag if kind == "event" else flag.is_set
     cycle = make_cycle()
-    partial = simulate_ensemble(cycle, 2.0, 10, molecules=25, seed=8, progress=progress,
-                                cancel=cancel)
+    partial = simulate_ensemble(
+        cycle, 2.0, 10, molecules=25, seed=8, progress=progress, cancel=cancel
+    )
     assert partial.status == "cancelled" and not partial.success
     assert partial.trajectories == 3 and partial.requested == 10
     assert "3 of 10" in partial.message

@@ -101,16 +101,18 @@ class CopyNumbers:
         substrate = check_molecules("substrate molecules", round(exact))
         # The rounded count defines the conversion: molecules per µM is N / W (within 0.5/N of
         # N_A·V), so that Km in molecules is exactly K·N in the chain and in the network alike.
-        return cls._build(cycle, substrate, substrate / cycle.substrate_total,
-                          volume_given=True, volume=volume)
+        return cls._build(
+            cycle, substrate, substrate / cycle.substrate_total, volume_given=True, volume=volume
+        )
 
     @classmethod
     def from_molecules(cls, cycle: Cycle, molecules: int) -> CopyNumbers:
         """Counts for `cycle` with `molecules` substrate molecules; volume follows from W."""
         substrate = check_molecules("molecules", molecules)
         per_um = substrate / cycle.substrate_total
-        return cls._build(cycle, substrate, per_um, volume_given=False,
-                          volume=per_um / MOLECULES_PER_UM_FL)
+        return cls._build(
+            cycle, substrate, per_um, volume_given=False, volume=per_um / MOLECULES_PER_UM_FL
+        )
 
     @classmethod
     def from_cycle(
@@ -142,12 +144,14 @@ class CopyNumbers:
 
         Used after a step in enzyme amount: the substrate count must be unchanged.
         """
-        if not math.isclose(cycle.substrate_total * self.molecules_per_um, self.substrate,
-                            rel_tol=1e-12):
+        if not math.isclose(
+            cycle.substrate_total * self.molecules_per_um, self.substrate, rel_tol=1e-12
+        ):
             msg = "`substrate_total` cannot change within one compartment (copy numbers fixed)"
             raise ValueError(msg)
-        return CopyNumbers._build(cycle, self.substrate, self.molecules_per_um,
-                                  self.volume_given, self.volume)
+        return CopyNumbers._build(
+            cycle, self.substrate, self.molecules_per_um, self.volume_given, self.volume
+        )
 
     def integer_enzymes(self) -> tuple[int, int]:
         """Kinase and phosphatase counts rounded to whole molecules (each must be ≥ 1).
@@ -158,7 +162,10 @@ class CopyNumbers:
             If an enzyme rounds to zero molecules (no mass-action simulation is possible).
         """
         counts = []
-        for name, amount in (("kinase_total", self.kinase), ("phosphatase_total", self.phosphatase)):
+        for name, amount in (
+            ("kinase_total", self.kinase),
+            ("phosphatase_total", self.phosphatase),
+        ):
             count = round(amount)
             if count < 1:
                 msg = (

@@ -227,7 +227,9 @@ def _log_flux(distribution: StationaryDistribution) -> FloatArray:
     chain = distribution.chain
     k = np.arange(chain.molecules, dtype=float)
     with np.errstate(divide="ignore"):
-        return np.asarray(distribution.log_probabilities[:-1] + np.log(chain.up_rate(k)), dtype=float)
+        return np.asarray(
+            distribution.log_probabilities[:-1] + np.log(chain.up_rate(k)), dtype=float
+        )
 
 
 def _log_cumsum(log_values: FloatArray) -> FloatArray:
@@ -324,7 +326,9 @@ class _LogWeightFamily:
             v = np.einsum("ij,ij,ij->i", w, d, d) / total
             mean[start : start + block.size] = m
             variance[start : start + block.size] = v
-        return _RatioMoments(mean.reshape(np.shape(log_ratios)), variance.reshape(np.shape(log_ratios)))
+        return _RatioMoments(
+            mean.reshape(np.shape(log_ratios)), variance.reshape(np.shape(log_ratios))
+        )
 
 
 @dataclass(frozen=True)

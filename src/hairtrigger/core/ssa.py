@@ -71,11 +71,50 @@ class CancelFlag(Protocol):
 ProgressCallback = Callable[[int, int], None]
 
 
-def _kernels() -> Any:
-    # Deferred: numba takes ~0.5 s to import and the kernels are needed only here.
-    from . import _ssa_kernels
+_WARM: list[bool] = []
 
-    return _ssa_kernels
+
+def _kernels() -> Any:
+    """The compiled kernels, loaded (or compiled) before any timing starts."""
+    # Deferred: numba takes ~0.5 s to import and the kernels are needed only here.
+    from . import _ssa_kernels as k
+
+    if not _WARM:
+        # One tiny call of each kernel loads its machine code from the on-disk cache (or
+        # compiles it, a few seconds, on the first run after an install or an edit) so that
+        # the ensemble's wall time and events per second measure simulation only.
+        states = k.seed_states(np.uint64(0), 0, 1)
+        k.uniforms(states)
+        times = np.zeros(1)
+        one = np.zeros(1, dtype=np.int64)
+        k.simulate_chain(
+            one,
+            states,
+            times,
+            1,
+            1.0,
+            1.0,
+            1.0,
+            1.0,
+            1,
+            np.zeros((1, 1), dtype=np.int64),
+            one.copy(),
+            one.copy(),
+        )
+        k.simulate_network(
+            np.array([[1, 0, 0, 0]], dtype=np.int64),
+            states,
+            times,
+            1,
+            1,
+            np.ones(6),
+            1,
+            np.zeros((1, 1, 4), dtype=np.int64),
+            one.copy(),
+            one.copy(),
+        )
+        _WARM.append(True)
+    return k
 
 
 # --- the networks ---------------------------------------------------------------------------
@@ -118,8 +157,10 @@ class MassActionNetwork:
 
     @classmethod
     def from_cycle(cls, cycle: Cycle, copies: CopyNumbers) -> MassActionNetwork:
-        """Network of `cycle` in the compartment of `copies` (enzymes from `cycle`, rounded to
-        whole molecules, each ≥ 1)."""
+        """Network of `cycle` in the compartment of `copies`.
+
+        Enzyme amounts come from `cycle`, rounded to whole molecules (each must be ≥ 1).
+        """
         copies = copies.for_cycle(cycle)
         for prefix in ("kinase", "phosphatase"):
             koff = getattr(cycle, f"{prefix}_koff")
@@ -396,7 +437,8 @@ def _parse_initial(
     allowed = SPECIES if model == "mass_action" else SPECIES[:2]
     unknown = sorted(set(initial) - set(allowed))
     if unknown:
-        msg = f"unknown initial species `{unknown[0]}` for the {model} model (known: {', '.join(allowed)})"
+        known = ", ".join(allowed)
+        msg = f"unknown initial species `{unknown[0]}` for the {model} model (known: {known})"
         raise ValueError(msg)
     counts = {k: _check_count(f"initial {k}", v, 0, molecules) for k, v in initial.items()}
     rest = sum(v for k, v in counts.items() if k != "unmodified")
@@ -411,7 +453,10 @@ def _parse_initial(
         )
         raise ValueError(msg)
     if network is not None:
-        for key, limit in (("kinase_complex", network.kinase), ("phosphatase_complex", network.phosphatase)):
+        for key, limit in (
+            ("kinase_complex", network.kinase),
+            ("phosphatase_complex", network.phosphatase),
+        ):
             if counts[key] > limit:
                 msg = f"initial {key} = {counts[key]} exceeds the {limit} enzyme molecules"
                 raise ValueError(msg)
@@ -480,8 +525,10 @@ def _plan(
             waiting = 1.0 / max(rate_before, 1e-300)
             burn_in = BURN_IN_CORRELATION_TIMES * max(tau, 100.0 * waiting)
     burn_in = 0.0 if burn_in is None else burn_in
-    if isinstance(burn_in, bool) or not isinstance(burn_in, numbers.Real) or not (
-        math.isfinite(burn_in) and burn_in >= 0.0
+    if (
+        isinstance(burn_in, bool)
+        or not isinstance(burn_in, numbers.Real)
+        or not (math.isfinite(burn_in) and burn_in >= 0.0)
     ):
         msg = f"`burn_in` must be a finite number >= 0 s; got {burn_in!r}"
         raise ValueError(msg)
@@ -499,8 +546,19 @@ def _plan(
     # Cap per trajectory far above what the fastest reachable state could produce.
     horizon = max(times[-1], burn_in)
     cap = int(min(4.0 * max_rate * horizon + 1e6, 2**62))
-    return _Plan(model, times, copies.substrate, before, after, parsed, burn_in,
-                 per_trajectory, cap, steady_cdf, steady_state)
+    return _Plan(
+        model,
+        times,
+        copies.substrate,
+        before,
+        after,
+        parsed,
+        burn_in,
+        per_trajectory,
+        cap,
+        steady_cdf,
+        steady_state,
+    )
 
 
 def _chain_flux(chain: BirthDeathChain) -> float:
@@ -602,8 +660,9 @@ def simulate_ensemble(
     first_trajectory = _check_count("first_trajectory", first_trajectory, 0, 2**40)
     event_budget = check_positive("event_budget", event_budget)
     copies = CopyNumbers.from_cycle(cycle, molecules, volume)
-    plan = _plan(cycle, copies, model, t_end, points, trajectories, initial, steps, burn_in,
-                 event_budget)
+    plan = _plan(
+        cycle, copies, model, t_end, points, trajectories, initial, steps, burn_in, event_budget
+    )
     used_seed = _resolve_seed(seed)
     key = _seed_key(used_seed)
     kernels = _kernels()
@@ -624,8 +683,16 @@ def simulate_ensemble(
             cancelled = True
             break
         stop = min(trajectories, done + chunk)
-        _run_chunk(kernels, plan, key, first_trajectory + done, out[done:stop],
-                   events[done:stop], burn_events[done:stop], status[done:stop])
+        _run_chunk(
+            kernels,
+            plan,
+            key,
+            first_trajectory + done,
+            out[done:stop],
+            events[done:stop],
+            burn_events[done:stop],
+            status[done:stop],
+        )
         done = stop
         if progress is not None:
             progress(done, trajectories)
@@ -646,8 +713,19 @@ def simulate_ensemble(
         )
     else:
         state, message = "completed", f"{done} trajectories, {int(events.sum())} events"
-    return EnsembleResult(plan.model, plan.times, counts, plan.molecules, trajectories, events,
-                          burn_events, wall, used_seed, state, message)
+    return EnsembleResult(
+        plan.model,
+        plan.times,
+        counts,
+        plan.molecules,
+        trajectories,
+        events,
+        burn_events,
+        wall,
+        used_seed,
+        state,
+        message,
+    )
 
 
 def _cancel_checker(cancel: CancelFlag | Callable[[], bool] | None) -> Callable[[], bool]:
@@ -698,9 +776,18 @@ def _run_chunk(
         chain = plan.after
         buffer = np.empty((count, plan.times.size), dtype=np.int64)
         kernels.simulate_chain(
-            start, states, plan.times, chain.molecules, chain.kinase_rate,
-            chain.K1 * chain.molecules, chain.phosphatase_rate, chain.K2 * chain.molecules,
-            plan.max_events, buffer, events, status,
+            start,
+            states,
+            plan.times,
+            chain.molecules,
+            chain.kinase_rate,
+            chain.K1 * chain.molecules,
+            chain.phosphatase_rate,
+            chain.K2 * chain.molecules,
+            plan.max_events,
+            buffer,
+            events,
+            status,
         )
         out[:, :, 0] = buffer
         return
@@ -714,8 +801,16 @@ def _run_chunk(
             final = np.empty((count, 1, 4), dtype=np.int64)
             burn_status = np.zeros(count, dtype=np.int64)
             kernels.simulate_network(
-                start, states, np.array([plan.burn_in]), before.kinase, before.phosphatase,
-                before.constants, plan.max_events, final, burn_events, burn_status,
+                start,
+                states,
+                np.array([plan.burn_in]),
+                before.kinase,
+                before.phosphatase,
+                before.constants,
+                plan.max_events,
+                final,
+                burn_events,
+                burn_status,
             )
             start = np.ascontiguousarray(final[:, 0, :])
     else:
@@ -723,8 +818,16 @@ def _run_chunk(
         start = np.repeat(np.array(row, dtype=np.int64)[None, :], count, axis=0)
     start = _apply_enzyme_step(start, before, after)
     kernels.simulate_network(
-        start, states, plan.times, after.kinase, after.phosphatase, after.constants,
-        plan.max_events, out, events, status,
+        start,
+        states,
+        plan.times,
+        after.kinase,
+        after.phosphatase,
+        after.constants,
+        plan.max_events,
+        out,
+        events,
+        status,
     )
     if plan.initial is None and plan.burn_in > 0.0:
         np.maximum(status, burn_status, out=status)
