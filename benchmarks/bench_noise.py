@@ -119,7 +119,9 @@ def report(label: str, events: int, seconds: float) -> float:
     return rate
 
 
-def bench_ensembles(trajectories: int, python_trajectories: int, t_end: float) -> None:
+def bench_ensembles(
+    trajectories: int, python_trajectories: int, t_end: float, chain_t_end: float | None = None
+) -> None:
     copies = CopyNumbers.from_molecules(CYCLE, MOLECULES)
     stepped = CYCLE.replace(**STEP)
     chain = BirthDeathChain.from_copies(stepped, copies)
@@ -252,7 +254,7 @@ def main() -> None:
         bench_ensembles(100, 2, 20.0)
         bench_exact(100_000)
     else:
-        bench_ensembles(TRAJECTORIES, 5, 100.0)
+        bench_ensembles(TRAJECTORIES, 5, 100.0, chain_t_end=1000.0)
         bench_exact(1_000_000)
 
 

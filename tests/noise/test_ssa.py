@@ -208,6 +208,25 @@ def test_same_seed_same_result_whatever_the_chunking(model: str, monkeypatch) ->
     assert whole.seed == 1234
 
 
+def test_slices_run_separately_join_into_the_whole_ensemble() -> None:
+    """What a cluster would do: slices with their own first_trajectory, joined afterwards."""
+    cycle = make_cycle(enzyme=0.05, km=0.1)
+    kwargs = {"molecules": 40, "model": "mass_action", "seed": 99, "points": 5, "burn_in": 2.0}
+    whole = simulate_ensemble(cycle, 3.0, 9, **kwargs)
+    parts = [
+        simulate_ensemble(cycle, 3.0, k, first_trajectory=i, **kwargs)
+        for i, k in ((0, 4), (4, 2), (6, 3))
+    ]
+    joined = ssa.EnsembleResult.concatenate(parts)
+    assert joined.trajectories == joined.requested == 9 and joined.success
+    for name in SPECIES:
+        np.testing.assert_array_equal(joined.counts[name], whole.counts[name])
+    np.testing.assert_array_equal(joined.events, whole.events)
+    other_seed = simulate_ensemble(cycle, 3.0, 2, **{**kwargs, "seed": 1})
+    with pytest.raises(ValueError, match="share"):
+        ssa.EnsembleResult.concatenate([parts[0], other_seed])
+
+
 def test_unseeded_runs_report_their_seed() -> None:
     cycle = make_cycle()
     first = simulate_ensemble(cycle, 1.0, 3, molecules=30)

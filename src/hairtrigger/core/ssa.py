@@ -334,6 +334,49 @@ class EnsembleResult:
         check_choice("species", species, SPECIES)
         return self.counts[species].astype(float)
 
+    @classmethod
+    def concatenate(cls, parts: list[EnsembleResult]) -> EnsembleResult:
+        """Join ensembles run as consecutive slices of one (``first_trajectory`` = 0, k, …).
+
+        With the same seed the joined result equals one run of all trajectories, so slices
+        can be simulated on separate workers (processes, a Dask cluster) and joined here.
+        """
+        if not parts:
+            msg = "`parts` must hold at least one EnsembleResult"
+            raise ValueError(msg)
+        first = parts[0]
+        for part in parts[1:]:
+            same = (part.model, part.molecules, part.seed) == (
+                first.model,
+                first.molecules,
+                first.seed,
+            )
+            if not same or not np.array_equal(part.t, first.t):
+                msg = "ensembles to join must share model, molecules, seed and time grid"
+                raise ValueError(msg)
+        statuses = [p.status for p in parts]
+        status = next((s for s in ("cancelled", "event_limit") if s in statuses), "completed")
+        done = sum(p.trajectories for p in parts)
+        requested = sum(p.requested for p in parts)
+        message = (
+            f"{done} trajectories, {sum(p.total_events for p in parts)} events"
+            if status == "completed"
+            else "; ".join(p.message for p in parts if p.status != "completed")
+        )
+        return cls(
+            model=first.model,
+            t=first.t,
+            counts={k: np.concatenate([p.counts[k] for p in parts]) for k in SPECIES},
+            molecules=first.molecules,
+            requested=requested,
+            events=np.concatenate([p.events for p in parts]),
+            burn_in_events=np.concatenate([p.burn_in_events for p in parts]),
+            wall_time=sum(p.wall_time for p in parts),
+            seed=first.seed,
+            status=status,
+            message=message,
+        )
+
     def summary(self) -> dict[str, Any]:
         """JSON-ready description of the run (no per-trajectory data)."""
         final_mean = self.mean()[-1] if self.trajectories else math.nan
