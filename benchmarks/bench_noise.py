@@ -127,19 +127,21 @@ def bench_ensembles(
     chain = BirthDeathChain.from_copies(stepped, copies)
     network = MassActionNetwork.from_cycle(stepped, copies)
     _kernels()  # load the compiled kernels outside the timings
+    chain_end = t_end if chain_t_end is None else chain_t_end
 
     print(
-        f"\n1. Reduced chain, N = {MOLECULES}, {trajectories} trajectories to t = {t_end:g} s, "
-        "from the exact steady state, kinase step +10 %"
+        f"\n1. Reduced chain, N = {MOLECULES}, {trajectories} trajectories to t = {chain_end:g} s,"
+        " from the exact steady state, kinase step +10 %"
     )
     result = simulate_ensemble(
-        CYCLE, t_end, trajectories, molecules=MOLECULES, seed=1, steps=STEP, points=201
+        CYCLE, chain_end, trajectories, molecules=MOLECULES, seed=1, steps=STEP, points=201
     )
     fast = report("compiled (numba) ensemble", result.total_events, result.wall_time)
     rng = random.Random(1)
     start = time.perf_counter()
     py_events = sum(
-        python_chain(MOLECULES // 2, t_end, 201, chain, rng)[1] for _ in range(python_trajectories)
+        python_chain(MOLECULES // 2, chain_end, 201, chain, rng)[1]
+        for _ in range(python_trajectories)
     )
     slow = report(
         f"plain Python loop ({python_trajectories} trajectories)",
