@@ -111,7 +111,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         type=float,
         default=None,
         help="mass_action from the steady state: time simulated before t = 0 "
-        "(default: 10 correlation times of the chain)",
+        "(default: 3 correlation times of the chain)",
     )
     ensemble.add_argument(
         "--event-budget",
