@@ -544,6 +544,17 @@ def noise_summary(
         ``standard_deviation_modified``, ``correlation_time`` (s), copy numbers,
         ``deterministic_mean_modified``, ``deterministic_hill_coefficient``, the
         ``population`` and ``deterministic`` threshold blocks and ``warnings``.
+
+    Examples
+    --------
+    >>> c = Cycle(substrate_total=1.0, kinase_total=0.01, kinase_kcat=1.0, kinase_km=0.01,
+    ...           kinase_kon=100.0, phosphatase_total=0.01, phosphatase_kcat=1.0,
+    ...           phosphatase_km=0.01, phosphatase_kon=100.0)
+    >>> out = noise_summary(c, volume=1.0)
+    >>> out["molecules"], round(out["mean_modified"], 6), len(out["distribution"])
+    (602, 301.0, 603)
+    >>> out["population_hill_coefficient"] < out["deterministic_hill_coefficient"]
+    True
     """
     if not isinstance(cycle, Cycle):
         msg = f"`cycle` must be a hairtrigger.Cycle; got {type(cycle).__name__}"

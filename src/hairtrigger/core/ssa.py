@@ -698,6 +698,16 @@ def simulate_ensemble(
     Returns
     -------
     EnsembleResult
+
+    Examples
+    --------
+    >>> c = Cycle(substrate_total=1.0, kinase_total=0.01, kinase_kcat=1.0, kinase_km=0.05,
+    ...           kinase_kon=100.0, phosphatase_total=0.01, phosphatase_kcat=1.0,
+    ...           phosphatase_km=0.05, phosphatase_kon=100.0)
+    >>> run = simulate_ensemble(c, 10.0, 50, molecules=200, seed=1,
+    ...                         steps={"kinase_total": 0.012})
+    >>> run.status, run.counts["modified"].shape
+    ('completed', (50, 101))
     """
     if not isinstance(cycle, Cycle):
         msg = f"`cycle` must be a hairtrigger.Cycle; got {type(cycle).__name__}"
