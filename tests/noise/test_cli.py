@@ -266,6 +266,10 @@ def test_progress_goes_to_stderr(tmp_path: Path, capsys: pytest.CaptureFixture[s
             ],
             "not a number",
         ),
+        (
+            ["--volume", "0.002", "--trajectories", "2", "--t-end", "1", "--model", "mass_action"],
+            "enzyme molecule",
+        ),
     ],
 )
 def test_bad_input_is_one_line_without_traceback(
@@ -402,3 +406,84 @@ def test_bad_input_in_a_fresh_process(
     assert len(done.stderr.strip().splitlines()) == 1 and "Traceback" not in done.stderr
     assert done.stdout == ""
     assert sorted(p.name for p in tmp_path.iterdir()) == ["cycle.json"]
+
+
+def test_progress_lines_without_tqdm(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Without tqdm installed, progress is plain lines on stderr."""
+    import hairtrigger.core.ssa as ssa
+
+    monkeypatch.setitem(sys.modules, "tqdm", None)  # makes `import tqdm` fail
+    monkeypatch.setattr(ssa, "_EVENTS_PER_CHUNK", 1.0)
+    path = write_snapshot(tmp_path)
+    done = run_main([str(path), "--molecules", "30", "--trajectories", "4", "--t-end", "1"], capsys)
+    assert done.returncode == 0
+    assert "hairtrigger noise: 4/4 trajectories" in done.stderr.splitlines()
+
+
+def test_interrupt_cancels_between_chunks_and_writes_nothing(
+    tmp_path: Path, cli_env: dict[str, str]
+) -> None:
+    """Ctrl-C (SIGINT) during a long ensemble: exit 130, one line, no CSV left behind."""
+    import signal
+    import time
+
+    path = write_snapshot(tmp_path)
+    out_csv = tmp_path / "runs.csv"
+    process = subprocess.Popen(
+        [
+            sys.executable,
+            "-m",
+            "hairtrigger",
+            "noise",
+            str(path),
+            "--molecules",
+            "2000",
+            "--trajectories",
+            "20000",
+            "--t-end",
+            "2000",
+            "--points",
+            "3",
+            "--csv",
+            str(out_csv),
+            "--event-budget",
+            "1e11",
+        ],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        env=cli_env,
+    )
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline:  # wait for the first progress output
+        time.sleep(0.5)
+        if process.poll() is not None:
+            break
+        if "traj" in _peek_stderr(process):
+            break
+    process.send_signal(signal.SIGINT)
+    stdout, stderr = process.communicate(timeout=60)
+    assert process.returncode == 130, stderr
+    assert "interrupted after" in stderr and "nothing written" in stderr
+    assert "Traceback" not in stderr
+    assert stdout == ""
+    assert not out_csv.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["cycle.json"]
+
+
+def _peek_stderr(process: subprocess.Popen[str]) -> str:
+    """Read what the child has written to stderr so far without blocking."""
+    import os
+    import select
+
+    assert process.stderr is not None
+    fd = process.stderr.fileno()
+    chunks = []
+    while select.select([fd], [], [], 0)[0]:
+        data = os.read(fd, 4096)
+        if not data:
+            break
+        chunks.append(data.decode(errors="replace"))
+    return "".join(chunks)
