@@ -176,6 +176,35 @@ def test_step_in_kinase_relaxes_to_new_exact_distribution() -> None:
     assert total_variation(final, exact_after.probabilities) < bound
 
 
+def test_rounding_enzymes_to_whole_molecules_is_reported() -> None:
+    cycle = make_cycle(enzyme=0.0114)  # 11.4 molecules per 1000 substrate molecules
+    run = simulate_ensemble(
+        cycle,
+        1.0,
+        2,
+        molecules=1000,
+        model="mass_action",
+        seed=0,
+        initial={"modified": 0},
+        steps={"kinase_total": 0.02},
+    )
+    assert run.enzyme_molecules == ((11, 11), (20, 11))
+    assert len(run.warnings) == 2  # both before the step; 20 kinase after it is exact
+    assert "kinase before the step is 11.4 molecules, simulated as 11 (-3.5 %)" in run.warnings[0]
+    assert run.summary()["enzyme_molecules"]["kinase"] == 20
+    exact = simulate_ensemble(
+        cycle.replace(kinase_total=0.011, phosphatase_total=0.011),
+        1.0,
+        2,
+        molecules=1000,
+        model="mass_action",
+        initial={"modified": 0},
+    )
+    assert exact.warnings == ()
+    chain = simulate_ensemble(cycle, 1.0, 2, molecules=1000)
+    assert chain.warnings == () and chain.enzyme_molecules == (None, None)
+
+
 def test_enzyme_step_down_releases_bound_substrate() -> None:
     """Removed enzyme is taken free first, then from complexes, whose substrate is released."""
     cycle = make_cycle(enzyme=0.1)

@@ -329,6 +329,7 @@ def run(args: argparse.Namespace) -> int:
             return 130
         if not ensemble.success:
             result["warnings"].append(ensemble.message)
+        result["warnings"].extend(ensemble.warnings)
         if args.csv is not None:
             write_output(ensemble_csv(ensemble), args.csv, force=args.force)
         readout = args.readout or snapshot.readout

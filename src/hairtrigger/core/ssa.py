@@ -278,6 +278,11 @@ class EnsembleResult:
         ``"completed"``, ``"cancelled"`` or ``"event_limit"``.
     message : str
         One line for the user.
+    warnings : tuple of str
+        Caveats about the run (e.g. enzyme amounts changed by rounding to whole molecules).
+    enzyme_molecules : tuple
+        (kinase, phosphatase) molecules simulated before and after the step; None for the
+        reduced chain, whose rates need no whole enzyme molecules.
     """
 
     model: str
@@ -291,6 +296,8 @@ class EnsembleResult:
     seed: int
     status: str
     message: str
+    warnings: tuple[str, ...] = ()
+    enzyme_molecules: tuple[tuple[int, int] | None, tuple[int, int] | None] = (None, None)
 
     @property
     def success(self) -> bool:
@@ -378,6 +385,8 @@ class EnsembleResult:
             seed=first.seed,
             status=status,
             message=message,
+            warnings=first.warnings,
+            enzyme_molecules=first.enzyme_molecules,
         )
 
     def summary(self) -> dict[str, Any]:
@@ -400,6 +409,15 @@ class EnsembleResult:
             "status": self.status,
             "success": self.success,
             "message": self.message,
+            "enzyme_molecules": None
+            if self.enzyme_molecules[1] is None
+            else {
+                "kinase_before": self.enzyme_molecules[0][0],  # type: ignore[index]
+                "phosphatase_before": self.enzyme_molecules[0][1],  # type: ignore[index]
+                "kinase": self.enzyme_molecules[1][0],
+                "phosphatase": self.enzyme_molecules[1][1],
+            },
+            "warnings": list(self.warnings),
         }
 
 
@@ -467,6 +485,23 @@ class _Plan:
     max_events: int
     steady_cdf: FloatArray | None
     steady_state: IntArray | None
+    warnings: tuple[str, ...] = ()
+
+
+def _rounding_warnings(copies: CopyNumbers, when: str, enzymes: tuple[str, ...]) -> list[str]:
+    """Say where whole enzyme molecules change an enzyme amount by more than 1 %."""
+    out = []
+    for name in enzymes:
+        amount = getattr(copies, name)
+        count = round(amount)
+        label = f"{name} {when}" if when else name
+        if count >= 1 and abs(count - amount) > 0.01 * amount:
+            out.append(
+                f"the mass-action simulation uses whole enzyme molecules: {label} is "
+                f"{amount:.4g} molecules, simulated as {count} ({100 * (count / amount - 1):+.1f} %"
+                "), which shifts the activity ratio accordingly"
+            )
+    return out
 
 
 def _parse_initial(
@@ -592,6 +627,12 @@ def _plan(
     # Cap per trajectory far above what the fastest reachable state could produce.
     horizon = max(times[-1], burn_in)
     cap = int(min(4.0 * max_rate * horizon + 1e6, 2**62))
+    warnings: list[str] = []
+    if model == "mass_action":
+        both = ("kinase", "phosphatase")
+        warnings = _rounding_warnings(copies, "before the step" if steps else "", both)
+        changed = tuple(name for name in both if steps and f"{name}_total" in steps)
+        warnings += _rounding_warnings(after_copies, "after the step", changed)
     return _Plan(
         model,
         times,
@@ -604,6 +645,7 @@ def _plan(
         cap,
         steady_cdf,
         steady_state,
+        tuple(warnings),
     )
 
 
@@ -781,6 +823,20 @@ def simulate_ensemble(
         used_seed,
         state,
         message,
+        plan.warnings,
+        _enzyme_counts(plan),
+    )
+
+
+def _enzyme_counts(
+    plan: _Plan,
+) -> tuple[tuple[int, int] | None, tuple[int, int] | None]:
+    """Whole (kinase, phosphatase) molecules simulated before and after the step."""
+    if plan.model != "mass_action":
+        return None, None
+    return (plan.before.kinase, plan.before.phosphatase), (
+        plan.after.kinase,
+        plan.after.phosphatase,
     )
 
 
