@@ -23,7 +23,7 @@ AVOGADRO: Final[float] = 6.02214076e23
 MOLECULES_PER_UM_FL: Final[float] = AVOGADRO * 1e-21
 
 #: Largest substrate copy number accepted (the exact distribution holds N + 1 numbers).
-MAX_MOLECULES: Final[int] = 20_000_000
+MAX_MOLECULES: Final[int] = 10_000_000
 
 
 def check_molecules(name: str, value: Any, maximum: int = MAX_MOLECULES) -> int:
