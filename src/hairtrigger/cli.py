@@ -24,6 +24,7 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
     "fit",
     "timecourse",
     "sbml",
+    "noise",
 )
 
 
