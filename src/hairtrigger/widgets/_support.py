@@ -184,15 +184,16 @@ class BusyIndicator(w.HTML):
     """A spinner with a label, shown only while slow work runs.
 
     `working` is a context manager: if the work inside takes longer than `delay` seconds, a
-    timer thread shows the indicator (widget updates from threads work with ipykernel >= 7.1),
-    so quick updates send no extra messages at all. `hold`/`release` count longer-lived pending
-    work (a debounced map recompute) and keep the indicator up until the last one is released.
+    watchdog thread shows the indicator (widget updates from threads work with
+    ipykernel >= 7.1), so quick updates send no extra messages and start no threads. `hold` and
+    `release` count longer-lived pending work (a debounced map recompute) and keep the
+    indicator up until the last one is released.
     """
 
     _SPINNER = (
         '<span role="status" aria-live="polite" style="display:inline-flex;align-items:center;'
-        'gap:6px;color:#333"><span style="width:12px;height:12px;border:2px solid #999;'
-        "border-top-color:#111;border-radius:50%;display:inline-block;"
+        'color:#333"><span style="width:12px;height:12px;border:2px solid #999;'
+        "border-top-color:#111;border-radius:50%;display:inline-block;margin-right:6px;"
         'animation:hairtrigger-spin 0.8s linear infinite"></span>{label}</span>'
         "<style>@keyframes hairtrigger-spin{to{transform:rotate(360deg)}}</style>"
     )
@@ -201,9 +202,13 @@ class BusyIndicator(w.HTML):
         super().__init__(value="", **kwargs)
         self.add_class("hairtrigger-busy")
         self.delay = float(delay)
-        self._lock = threading.Lock()
+        self._lock = threading.RLock()
         self._holders: dict[str, int] = {}
-        self._timer_label: str | None = None
+        self._running: list[tuple[int, str]] = []  # (job number, label) of `working` bodies
+        self._shown_job: str | None = None
+        self._jobs = 0
+        self._wake = threading.Condition(self._lock)
+        self._watchdog: threading.Thread | None = None
 
     @property
     def shown(self) -> bool:
@@ -212,10 +217,10 @@ class BusyIndicator(w.HTML):
 
     def _refresh(self) -> None:
         labels = [k for k, n in self._holders.items() if n > 0]
-        if self._timer_label is not None:
-            labels.append(self._timer_label)
+        if self._shown_job is not None:
+            labels.append(self._shown_job)
         text = "updating " + ", ".join(dict.fromkeys(labels)) + "…" if labels else ""
-        value = self._SPINNER.format(label=html.escape(text)) if labels else ""
+        value = self._SPINNER.replace("{label}", html.escape(text)) if labels else ""
         if value != self.value:
             self.value = value
 
@@ -231,28 +236,39 @@ class BusyIndicator(w.HTML):
             self._holders[label] = max(0, self._holders.get(label, 0) - 1)
             self._refresh()
 
+    def _watch(self) -> None:
+        # One long-lived thread: waits for a job, then for `delay`; shows the job if it is
+        # still the one running.
+        with self._lock:
+            while True:
+                while not self._running:
+                    self._wake.wait()
+                job, label = self._running[0]
+                self._wake.wait(self.delay)
+                if self._running and self._running[0][0] == job and self._shown_job is None:
+                    self._shown_job = label
+                    self._refresh()
+                while self._running and self._running[0][0] == job:
+                    self._wake.wait()
+
     @contextmanager
     def working(self, label: str) -> Iterator[None]:
         """Show the indicator if the body runs longer than `delay` seconds."""
-
-        done = threading.Event()
-
-        def show() -> None:
-            with self._lock:
-                # The body may have finished between the timer firing and this lock.
-                if not done.is_set():
-                    self._timer_label = label
-                    self._refresh()
-
-        timer = threading.Timer(self.delay, show)
-        timer.daemon = True
-        timer.start()
+        with self._lock:
+            self._jobs += 1
+            job = self._jobs
+            self._running.append((job, label))
+            if self._watchdog is None:
+                self._watchdog = threading.Thread(target=self._watch, daemon=True,
+                                                  name="hairtrigger-busy")
+                self._watchdog.start()
+            self._wake.notify_all()
         try:
             yield
         finally:
-            timer.cancel()
             with self._lock:
-                done.set()
-                if self._timer_label is not None:
-                    self._timer_label = None
+                self._running = [item for item in self._running if item[0] != job]
+                if self._shown_job is not None and not self._running:
+                    self._shown_job = None
                     self._refresh()
+                self._wake.notify_all()

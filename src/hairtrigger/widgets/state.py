@@ -18,8 +18,8 @@ from __future__ import annotations
 import math
 import numbers
 import time
-from collections.abc import Iterator, Mapping
-from contextlib import contextmanager
+from collections.abc import Callable, Iterator, Mapping
+from contextlib import AbstractContextManager, contextmanager, nullcontext
 from dataclasses import dataclass, field
 from typing import Any, Final
 
@@ -37,7 +37,7 @@ from traitlets import (
     observe,
 )
 
-from ..core import MAP_MEASURES, MODELS, READOUTS, Cycle, evaluate
+from ..core import CYCLE_KEYS, MAP_MEASURES, MODELS, READOUTS, Cycle, SteadyState, evaluate, steady_state
 
 #: Model names as shown to users.
 MODEL_LABELS: Final[dict[str, str]] = {
@@ -286,6 +286,9 @@ class ExplorerState(HasTraits):
         self._dirty = False
         #: Wall time of the last recompute in seconds (benchmarks read it).
         self.last_recompute_seconds = 0.0
+        #: Context-manager factory wrapped around each recompute, called with a label; the
+        #: explorer sets it to its busy indicator's ``working`` so slow recomputes show.
+        self.progress: Callable[[str], AbstractContextManager[Any]] = lambda label: nullcontext()
         super().__init__()
         with self.batch():
             for name, value in values.items():
@@ -428,9 +431,11 @@ class ExplorerState(HasTraits):
         self._dirty = False
         start = time.perf_counter()
         try:
-            cycle = self.to_cycle()
-            results = evaluate(cycle, self.model, self.readout)
-            course = compute_time_course(cycle, self.model, self.readout, self.step_activity_ratio)
+            with self.progress("results"):
+                cycle = self.to_cycle()
+                results = evaluate(cycle, self.model, self.readout)
+                course = compute_time_course(cycle, self.model, self.readout,
+                                             self.step_activity_ratio)
             problem = ""
         except Exception as exc:  # noqa: BLE001 - a failed recompute is reported, not raised
             cycle, results, course = self.cycle, dict(self.results), self.time_course
@@ -444,16 +449,203 @@ class ExplorerState(HasTraits):
             self.set_trait("revision", self.revision + 1)
 
 
+    # --- snapshots --------------------------------------------------------------------------
+    def view_settings(self) -> dict[str, Any]:
+        """The view settings saved with a snapshot (JSON-ready)."""
+        return {name: getattr(self, name) for name in self.view_names()}
+
+    def to_snapshot(self, created: str | None = None) -> Any:
+        """The current exploration as a `hairtrigger.io.snapshot.Snapshot`.
+
+        The cycle, model, readout, title and notes go in the format's own fields; view
+        settings under ``"view"`` and pinned snapshots (without their own extras) under
+        ``"pinned"``.
+        """
+        from ..io.snapshot import Snapshot, snapshot_to_dict
+
+        extras: dict[str, Any] = {"view": self.view_settings()}
+        if self.pinned:
+            extras["pinned"] = [snapshot_to_dict(p.replace(extras={})) for p in self.pinned]
+        options: dict[str, Any] = {} if created is None else {"created": created}
+        return Snapshot(self.to_cycle(), self.model, self.readout, self.title, self.notes,
+                        extras=extras, **options)
+
+    def check_snapshot(self, snapshot: Any) -> tuple[dict[str, Any], tuple[Any, ...], list[str]]:
+        """Validate a snapshot for this explorer without changing anything.
+
+        Returns
+        -------
+        settings : dict
+            Trait values to set (parameters, model, readout, title, notes, view settings).
+        pinned : tuple of Snapshot
+            Pinned snapshots stored in the file.
+        notes : list of str
+            Things the user should know (ignored unknown view settings).
+
+        Raises
+        ------
+        ValueError
+            Naming the first field the explorer cannot take (out of its range, bad view
+            setting, bad pinned entry).
+        """
+        from ..io.snapshot import Snapshot, SnapshotError, snapshot_from_dict
+
+        if not isinstance(snapshot, Snapshot):
+            msg = f"`snapshot` must be a hairtrigger Snapshot; got {type(snapshot).__name__}"
+            raise TypeError(msg)
+        settings: dict[str, Any] = dict(self.check_cycle(snapshot.cycle))
+        settings.update(model=snapshot.model, readout=snapshot.readout, title=snapshot.title,
+                        notes=snapshot.notes)
+        remarks: list[str] = []
+        view = snapshot.extras.get("view", {})
+        if not isinstance(view, Mapping):
+            msg = f"view: must be an object of view settings; got {type(view).__name__}"
+            raise ParameterError(msg)
+        known = set(self.view_names())
+        for name, value in view.items():
+            if name not in known:
+                remarks.append(f"ignored unknown view setting `view.{name}`")
+                continue
+            try:
+                # Validate against the trait without touching this state.
+                self.traits()[name].validate(self, value)
+            except (TraitError, ValueError) as exc:
+                msg = f"view.{name}: {exc}"
+                raise ParameterError(msg) from None
+            settings[name] = value
+        entries = snapshot.extras.get("pinned", [])
+        if not isinstance(entries, list | tuple):
+            msg = f"pinned: must be a list of snapshots; got {type(entries).__name__}"
+            raise ParameterError(msg)
+        pinned = []
+        for index, entry in enumerate(entries):
+            try:
+                pinned.append(snapshot_from_dict(entry).replace(extras={}))
+            except SnapshotError as exc:
+                msg = f"pinned[{index}]: {exc}"
+                raise ParameterError(msg) from None
+        return settings, tuple(pinned), remarks
+
+    def apply_snapshot(self, snapshot: Any, keep_pinned: bool = False) -> list[str]:
+        """Load `snapshot` into the state with one recompute; nothing changes if it is refused.
+
+        Parameters
+        ----------
+        snapshot : Snapshot
+            As returned by `hairtrigger.io.snapshot.load_snapshot`.
+        keep_pinned : bool
+            Keep the current pins (and add the file's) instead of replacing them.
+
+        Returns
+        -------
+        list of str
+            Remarks for the user (ignored settings).
+        """
+        settings, pinned, remarks = self.check_snapshot(snapshot)
+        with self.batch():
+            for name, value in settings.items():
+                setattr(self, name, value)
+            self.pinned = (tuple(self.pinned) + pinned) if keep_pinned else pinned
+        return remarks
+
+
+#: Samples per time course.
+COURSE_POINTS: Final[int] = 200
+
+#: Times the window may be doubled when the course has not settled by its end.
+MAX_WINDOW_EXTENSIONS: Final[int] = 4
+
+
+def cycle_arrays(cycle: Cycle) -> dict[str, float]:
+    """The cycle's parameters as a plain mapping (cheaper than ``Cycle.arrays``'s deep copy)."""
+    return {key: getattr(cycle, key) for key in CYCLE_KEYS}
+
+
+def _settling_window(before: SteadyState, after_state: SteadyState, after: Cycle) -> float:
+    """A time window that covers the transit and the final relaxation of a step (s).
+
+    The zero-order transit moves the substrate at a nearly constant net rate, so its duration
+    is about ΔB / (net rate just after the step); the approach to the end then takes a few
+    linear relaxation times. Both are estimated in the quasi-steady picture, which is enough
+    to choose a window (the course itself is exact or integrated).
+    """
+    b0, a0 = float(before.modified), float(before.unmodified)
+    b1, a1 = float(after_state.modified), float(after_state.unmodified)
+    v1, v2 = after.kinase_vmax, after.phosphatase_vmax
+    m1, m2 = after.kinase_km, after.phosphatase_km
+    net = v1 * a0 / (m1 + a0) - v2 * b0 / (m2 + b0)
+    rate = v1 * m1 / (m1 + a1) ** 2 + v2 * m2 / (m2 + b1) ** 2
+    tau = 1.0 / rate if rate > 0 else after.substrate_total / max(v1, v2)
+    transit = abs(b1 - b0) / abs(net) if net != 0 else 0.0
+    return max(1.2 * transit + 8.0 * tau, 1e-9)
+
+
+def _crossing_time(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
+    """First time the sampled course reaches `level` (linear interpolation), or None."""
+    reached = y >= level if rising else y <= level
+    if not reached.any():
+        return None
+    k = int(np.argmax(reached))
+    if k == 0:
+        return float(t[0])
+    y0, y1 = y[k - 1], y[k]
+    frac = (level - y0) / (y1 - y0) if y1 != y0 else 1.0
+    return float(t[k - 1] + frac * (t[k] - t[k - 1]))
+
+
 def compute_time_course(
     cycle: Cycle, model: str, readout: str, ratio_after: float
 ) -> TimeCourseView | None:
     """Step response from the steady state of `cycle` to the activity ratio `ratio_after`.
 
-    Returns None while `hairtrigger.core.timecourse` is not available.
+    The kinase amount steps at t = 0 (``hairtrigger.core.timecourse.time_course``); the window
+    is chosen to cover the transit and the settling, and doubled while the end is still more
+    than 1 % of the change away from the new steady state.
     """
-    try:
-        from ..core.timecourse import time_course
-    except ImportError:
-        return None
-    del time_course
-    return None
+    from ..core.timecourse import time_course
+
+    after = cycle.with_activity_ratio(ratio_after)
+    before_state = steady_state(cycle_arrays(cycle), model)
+    after_state = steady_state(cycle_arrays(after), model)
+    target = float(after_state.readout(readout))
+    start = float(before_state.readout(readout))
+    change = target - start
+    t_end = _settling_window(before_state, after_state, after)
+    steps = {"kinase_total": after.kinase_total}
+    course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
+    for _ in range(MAX_WINDOW_EXTENSIONS):
+        end = course["readout"][-1]
+        if not course.success or not np.isfinite(end) or abs(end - target) <= 0.01 * abs(change):
+            break
+        t_end *= 2.0
+        course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
+    t = np.asarray(course["t"], dtype=float)
+    y = np.asarray(course["readout"], dtype=float)
+    rising = change > 0
+    half = switching = None
+    if abs(change) > 1e-12 * max(abs(start), abs(target), 1e-300) and course.success:
+        half = _crossing_time(t, y, start + 0.5 * change, rising)
+        t10 = _crossing_time(t, y, start + 0.1 * change, rising)
+        t90 = _crossing_time(t, y, start + 0.9 * change, rising)
+        switching = t90 - t10 if t10 is not None and t90 is not None else None
+    relaxation = None
+    if model == "quasi_steady":
+        y_star = target
+        k1, k2 = after.K1, after.K2
+        w = after.substrate_total
+        rate = (after.kinase_vmax * k1 / (k1 + 1.0 - y_star) ** 2
+                + after.phosphatase_vmax * k2 / (k2 + y_star) ** 2) / w
+        relaxation = 1.0 / rate
+    return TimeCourseView(
+        t=t,
+        species={key: np.asarray(course[key], dtype=float) for key in
+                 ("unmodified", "modified", "kinase_complex", "phosphatase_complex")},
+        readout=y,
+        ratio_before=cycle.activity_ratio,
+        ratio_after=ratio_after,
+        half_time=half,
+        relaxation_time=relaxation,
+        switching_time=switching,
+        success=bool(course.success),
+        message=str(course.message),
+    )

@@ -2,8 +2,10 @@
 
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
+from .snapshots import SnapshotPanel
 from .steepness import SteepnessMapPanel
 from .table import ReadoutTable
+from .timecourse import TimeCoursePanel
 
 __all__ = [
     "ControlsPanel",
@@ -11,5 +13,7 @@ __all__ = [
     "LogControl",
     "ReadoutTable",
     "ResponseCurvePanel",
+    "SnapshotPanel",
     "SteepnessMapPanel",
+    "TimeCoursePanel",
 ]

@@ -22,7 +22,7 @@ from traitlets import Instance
 from ...core import Cycle, steady_state
 from .._support import MessageLine, reporting
 from ..colors import OKABE_ITO
-from ..state import PARAMETER_SPECS, READOUT_LABELS, ExplorerState
+from ..state import PARAMETER_SPECS, READOUT_LABELS, ExplorerState, cycle_arrays
 from ._figure import axis, figure, log_ticks
 
 #: Points per curve (the core computes 400 mass-action points in well under a millisecond).
@@ -53,7 +53,7 @@ def response_curves(
     readout, unmodified : ndarray
         Fractions of total substrate, one per ratio.
     """
-    params: dict[str, Any] = cycle.arrays()
+    params: dict[str, Any] = cycle_arrays(cycle)
     params["kinase_total"] = ratios * cycle.phosphatase_vmax / cycle.kinase_kcat
     state = steady_state(params, model)
     return state.readout(readout), state.unmodified_readout(readout)
@@ -208,8 +208,8 @@ class ResponseCurvePanel(w.VBox):
         results = state.results
         low, high = self.window()
         ratios = np.logspace(math.log10(low), math.log10(high), CURVE_POINTS)
-        shape_key = {k: v for k, v in cycle.as_dict().items() if k != "kinase_total"}
-        key = (tuple(shape_key.values()), state.model, state.readout, low, high)
+        shape_key = tuple(v for k, v in cycle_arrays(cycle).items() if k != "kinase_total")
+        key = (shape_key, state.model, state.readout, low, high)
         if key != self._cache_key:
             self._cache_key = key
             readout, unmodified = response_curves(cycle, state.model, state.readout, ratios)

@@ -29,7 +29,14 @@ from traitlets import Instance
 from ...core import MAP_MEASURES, Cycle, peak_sensitivity, steepness_map
 from .._support import BusyIndicator, Debouncer, MessageLine, reporting
 from ..colors import UNDEFINED_RGB, colour_bar_png, encode_png, relative_luminance, viridis
-from ..state import MAP_RESOLUTIONS, MEASURE_LABELS, PARAMETER_SPECS, TARGET_SPEC, ExplorerState
+from ..state import (
+    MAP_RESOLUTIONS,
+    MEASURE_LABELS,
+    PARAMETER_SPECS,
+    TARGET_SPEC,
+    ExplorerState,
+    cycle_arrays,
+)
 from ._figure import axis, figure, log_ticks
 from .controls import format_value, parse_entry
 
@@ -257,7 +264,7 @@ class SteepnessMapPanel(w.VBox):
         """Everything the map's values depend on (a change triggers a recompute)."""
         state = self.state
         cycle = state.cycle
-        values = cycle.as_dict() if cycle is not None else {}
+        values = cycle_arrays(cycle) if cycle is not None else {}
         return (tuple(values.get(k) for k in MAP_INPUT_KEYS), state.model, state.readout,
                 state.map_measure, state.map_resolution)
 
@@ -408,7 +415,7 @@ class SteepnessMapPanel(w.VBox):
             value = results["relative"]["hill_coefficient"]
         else:
             cycle = state.cycle
-            value = float(peak_sensitivity(cycle.arrays(), state.model, state.readout))
+            value = float(peak_sensitivity(cycle_arrays(cycle), state.model, state.readout))
         return value if value is not None and math.isfinite(value) else None
 
     def _draw_caption(self) -> None:
