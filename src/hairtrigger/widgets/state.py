@@ -292,7 +292,7 @@ class ExplorerState(HasTraits):
         super().__init__()
         with self.batch():
             for name, value in values.items():
-                if not self.has_trait(name) or self.trait_metadata(name, "read_only"):
+                if not self.has_trait(name) or self.traits()[name].read_only:
                     msg = f"unknown or read-only explorer setting `{name}`"
                     raise ValueError(msg)
                 setattr(self, name, value)
