@@ -196,7 +196,11 @@ class ResponseCurvePanel(w.VBox):
         log_low = math.log10(spec.low)
         log_high = math.log10(spec.high)
         half = decades / 2.0
-        mid = min(max(math.log10(centre), log_low + half), log_high - half)
+        # Quantise the centre (1/20 of the window) so dragging K1 or K2 does not make the axis
+        # creep on every tick; it re-centres in small jumps instead.
+        grain = decades / 20.0
+        mid = round(math.log10(centre) / grain) * grain
+        mid = min(max(mid, log_low + half), log_high - half)
         return 10.0 ** (mid - half), 10.0 ** (mid + half)
 
     def refresh(self) -> None:

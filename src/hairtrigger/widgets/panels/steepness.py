@@ -28,7 +28,16 @@ from traitlets import Instance
 
 from ...core import MAP_MEASURES, Cycle, peak_sensitivity, steepness_map
 from .._support import BusyIndicator, Debouncer, MessageLine, reporting
-from ..colors import UNDEFINED_RGB, colour_bar_png, encode_png, relative_luminance, viridis
+from ..colors import (
+    BLACK_INDEX,
+    PALETTE,
+    UNDEFINED_INDEX,
+    UNDEFINED_RGB,
+    WHITE_INDEX,
+    colour_bar_png,
+    encode_png,
+    relative_luminance,
+)
 from ..state import (
     MAP_RESOLUTIONS,
     MEASURE_LABELS,
@@ -90,28 +99,32 @@ def cell_centres(low: float, high: float, cells: int) -> np.ndarray:
     return np.asarray(10.0 ** (lo + step * (np.arange(cells) + 0.5)), dtype=float)
 
 
+#: Palette entries darker than this get a white outline, the others a black one.
+_DARK = relative_luminance(PALETTE[:256, :3] / 255.0) < 0.45
+
+
 def colour_map(values: np.ndarray, target: float | None) -> tuple[np.ndarray, np.ndarray, np.ndarray,
                                                                   float | None, float | None]:
     """Colour a map in log10 of the measure; undefined cells grey; outline of `target`.
 
-    Returns ``(rgba, defined, outline, low, high)`` with rows as in `values` (row 0 = smallest
-    K2; flip before encoding).
+    Colours come from a 256-step viridis lookup table (one gather per map). Returns
+    ``(rgba, defined, outline, low, high)`` with rows as in `values` (row 0 = smallest K2;
+    flip before encoding).
     """
     defined = np.isfinite(values) & (values > 0.0)
-    rgba = np.empty((*values.shape, 4), dtype=np.uint8)
-    rgba[..., 3] = 255
-    rgba[..., :3] = UNDEFINED_RGB
     outline = np.zeros(values.shape, dtype=bool)
     if not defined.any():
-        return rgba, defined, outline, None, None
-    logs = np.log10(np.where(defined, values, 1.0), dtype=np.float64)
-    lo = float(logs[defined].min())
-    hi = float(logs[defined].max())
+        index = np.full(values.shape, UNDEFINED_INDEX, dtype=np.intp)
+        return PALETTE[index], defined, outline, None, None
+    with np.errstate(divide="ignore", invalid="ignore"):
+        logs = np.log10(values)
+    lo = float(np.min(logs, where=defined, initial=np.inf))
+    hi = float(np.max(logs, where=defined, initial=-np.inf))
     if hi - lo < 1e-9:
         lo, hi = lo - 0.05, hi + 0.05
-    t = ((logs - lo) / (hi - lo)).astype(np.float32)
-    rgb = viridis(t)
-    rgba[defined, :3] = np.rint(rgb[defined] * 255.0).astype(np.uint8)
+    scaled = (logs - lo) * (255.0 / (hi - lo))
+    index = np.where(defined, np.clip(np.rint(np.nan_to_num(scaled)), 0, 255), UNDEFINED_INDEX)
+    index = index.astype(np.intp)
     if target is not None and target > 0:
         above = logs > math.log10(target)
         # A cell is on the outline where it and a neighbour (right or up) are both defined and
@@ -120,10 +133,10 @@ def colour_map(values: np.ndarray, target: float | None) -> tuple[np.ndarray, np
         vertical = (above[1:, :] != above[:-1, :]) & defined[1:, :] & defined[:-1, :]
         outline[:, :-1] |= horizontal
         outline[:-1, :] |= vertical
-        dark = relative_luminance(rgb) < 0.45
-        rgba[outline & dark, :3] = 255
-        rgba[outline & ~dark, :3] = 0
-    return rgba, defined, outline, 10.0**lo, 10.0**hi
+        if outline.any():
+            dark = _DARK[np.minimum(index, 255)]
+            index = np.where(outline, np.where(dark, WHITE_INDEX, BLACK_INDEX), index)
+    return PALETTE[index], defined, outline, 10.0**lo, 10.0**hi
 
 
 def compute_map(cycle: Cycle, model: str, readout: str, measure: str, cells: int,
