@@ -54,15 +54,24 @@ def packaged_notebook() -> Path | None:
     return path if path.is_file() else None
 
 
-def notebook_to_open(workdir: Path | None, fresh: bool) -> tuple[Path, str]:
+def notebook_to_open(workdir: Path | None, fresh: bool, dry_run: bool = False) -> tuple[Path, str]:
     """Choose the notebook: the source checkout's, or a working copy of the packaged one.
+
+    Parameters
+    ----------
+    workdir : Path or None
+        Folder for a copy (None: the source notebook in place, or ``./hairtrigger-explore``).
+    fresh : bool
+        Replace an existing copy.
+    dry_run : bool
+        Decide, but copy nothing.
 
     Returns
     -------
     path : Path
         The notebook to open.
     note : str
-        What was done (shown to the user).
+        What was (or would be) done, for the user.
     """
     source = source_notebook()
     if source is not None and workdir is None:
@@ -78,18 +87,25 @@ def notebook_to_open(workdir: Path | None, fresh: bool) -> tuple[Path, str]:
     target = folder / NOTEBOOK_NAME
     if target.exists() and not fresh:
         return target, f"opening your copy {target} (--fresh replaces it with the original)"
+    if dry_run:
+        return target, f"would copy the explorer notebook to {target}"
     folder.mkdir(parents=True, exist_ok=True)
     shutil.copyfile(original, target)
     return target, f"copied the explorer notebook to {target}"
 
 
-def check_snapshot(path: str) -> Path:
-    """Validate the snapshot file before starting a server (one-line error if it is bad)."""
-    from ..io.snapshot import load_snapshot
+def check_snapshot(argument: str) -> Path:
+    """Validate the snapshot (a file, or ``example:NAME``) before starting a server.
 
-    file = Path(path).expanduser().resolve()
-    load_snapshot(file)  # SnapshotError (a ValueError) or OSError: reported by the CLI
-    return file
+    Returns the file's absolute path; a bad or missing file is a one-line error.
+    """
+    from ..io.examples import example_path
+    from ._files import EXAMPLE_PREFIX, read_snapshot
+
+    read_snapshot(argument)  # UserError / SnapshotError (a ValueError): reported by the CLI
+    if argument.startswith(EXAMPLE_PREFIX):
+        return example_path(argument.removeprefix(EXAMPLE_PREFIX)).resolve()
+    return Path(argument).expanduser().resolve()
 
 
 def build_command(notebook: Path, app: str, port: int | None, browser: bool) -> list[str]:
@@ -128,12 +144,10 @@ def run(args: argparse.Namespace) -> int:
     if args.snapshot is not None:
         env[SNAPSHOT_VARIABLE] = str(check_snapshot(args.snapshot))
     workdir = Path(args.dir) if args.dir is not None else None
-    if args.dry_run and source_notebook() is None and workdir is None:
-        notebook, note = Path(DEFAULT_DIR) / NOTEBOOK_NAME, "would copy the explorer notebook"
-    else:
-        notebook, note = notebook_to_open(workdir, args.fresh)
+    notebook, note = notebook_to_open(workdir, args.fresh, dry_run=args.dry_run)
     command = build_command(notebook.resolve(), args.app, args.port, not args.no_browser)
     if args.dry_run:
+        print(f"# {note}")
         if args.snapshot is not None:
             print(f"{SNAPSHOT_VARIABLE}={shlex.quote(env[SNAPSHOT_VARIABLE])}")
         print(shlex.join(command))
@@ -156,7 +170,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
         ),
     )
     parser.add_argument("snapshot", nargs="?", metavar="SNAPSHOT",
-                        help="a snapshot file (.json) to open in the explorer")
+                        help="a snapshot file (.json), or example:NAME for a bundled example, "
+                        "to open in the explorer (default: the notebook's own scenario)")
     parser.add_argument("--app", choices=("lab", "voila"), default="lab",
                         help="JupyterLab (default) or Voila (the notebook as an app)")
     parser.add_argument("--dir", metavar="DIR",
