@@ -21,6 +21,8 @@ from .commands import UserError
 COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
+    "cascade",
+    "sweep",
 )
 
 
