@@ -54,6 +54,9 @@ SWEEP_QUANTITIES: Final[tuple[str, ...]] = (*EVALUATE_QUANTITIES, HALF_TIME)
 #: Default outputs of `cycle_sensitivity`: threshold, steepness and switching time.
 SENSITIVITY_OUTPUTS: Final[tuple[str, ...]] = ("activity_ratio_50", "hill_coefficient", HALF_TIME)
 
+#: Seconds to wait for a Dask scheduler given by address.
+SCHEDULER_TIMEOUT: float = 10.0
+
 #: Samples per chunk; fixed so that results never depend on where chunks run.
 DEFAULT_CHUNK_SIZE: Final[int] = 1 << 16
 
@@ -271,7 +274,7 @@ def _resolve_client(client: Any) -> tuple[Any, bool]:
             )
             raise ValueError(msg) from exc
         try:
-            return Client(client, timeout="10s"), True
+            return Client(client, timeout=f"{SCHEDULER_TIMEOUT}s"), True
         except (OSError, TimeoutError) as exc:
             msg = f"cannot reach the Dask scheduler at {client!r}: {exc}"
             raise ValueError(msg) from exc
