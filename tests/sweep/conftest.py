@@ -17,7 +17,7 @@ def cycle() -> Cycle:
     )
 
 
-@pytest.fixture(scope="module")
+@pytest.fixture(scope="session")
 def dask_client():
     """A two-worker local Dask cluster in separate processes, on loopback only."""
     distributed = pytest.importorskip("distributed")

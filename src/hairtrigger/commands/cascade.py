@@ -8,8 +8,9 @@ import math
 import sys
 
 from ..core.cascade import cascade_response
-from ..io.cascade_file import load_cascade
+from ..io.cascade_file import cascade_example_path, list_cascade_examples, load_cascade
 from . import UserError
+from ._files import EXAMPLE_PREFIX, write_output
 
 DESCRIPTION = """\
 Scan the input enzyme total of the cascade in FILE (a "hairtrigger.cascade" JSON file) over
@@ -59,7 +60,11 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         help="EC10/EC50/EC90 and Hill coefficients of every level of a cascade, as JSON",
         description=DESCRIPTION,
     )
-    parser.add_argument("file", metavar="FILE", help="cascade file (JSON, format hairtrigger.cascade)")
+    parser.add_argument(
+        "file", metavar="FILE",
+        help=f"cascade file (JSON, format hairtrigger.cascade), or {EXAMPLE_PREFIX}NAME for a "
+        f"bundled example ({', '.join(list_cascade_examples())})",
+    )
     parser.add_argument(
         "--scan", metavar="LOW:HIGH", type=_scan_range, required=True,
         help="range of the input enzyme total to scan, uM (log-spaced)",
@@ -71,15 +76,26 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+def read_cascade(path: str):  # noqa: ANN201 - returns hairtrigger.core.cascade.Cascade
+    """Load a cascade named on the command line; file-system errors become one clean line."""
+    try:
+        if path.startswith(EXAMPLE_PREFIX):
+            return load_cascade(cascade_example_path(path.removeprefix(EXAMPLE_PREFIX)))
+        return load_cascade(path)
+    except FileNotFoundError:
+        raise UserError(f"{path}: no such file") from None
+    except PermissionError:
+        raise UserError(f"{path}: permission denied") from None
+    except OSError as exc:
+        raise UserError(f"{path}: cannot be read ({exc.strerror or exc})") from None
+
+
 def run(args: argparse.Namespace) -> int:
     """Scan the cascade and print the JSON result; exit 1 if a steady state failed its checks."""
-    try:
-        cascade = load_cascade(args.file)
-    except IsADirectoryError as exc:
-        raise UserError(f"{args.file}: is a folder, not a cascade file") from exc
+    cascade = read_cascade(args.file)
     low, high = args.scan
     result = cascade_response(cascade, low, high, args.points)
-    sys.stdout.write(json.dumps(result.as_dict(), indent=2, allow_nan=False) + "\n")
+    write_output(json.dumps(result.as_dict(), indent=2, allow_nan=False) + "\n", None, force=False)
     if not result.success:
         print(f"hairtrigger cascade: {result.message}", file=sys.stderr)
         return 1

@@ -5,11 +5,11 @@ from __future__ import annotations
 import argparse
 import sys
 
-from ..core.params import CYCLE_KEYS, MODELS, READOUTS
+from ..core.params import CYCLE_KEYS
 from ..core.sweep import EVALUATE_QUANTITIES, SAMPLING_DESIGNS, ParameterRange, run_sweep
-from ..io import load_snapshot
-from ..io.sweep_csv import check_output_path, write_table_csv
+from ..io.sweep_csv import write_table_csv
 from . import UserError
+from ._files import add_snapshot_arguments, check_output_path, read_snapshot
 from ._progress import TextProgress
 
 DESCRIPTION = f"""\
@@ -51,7 +51,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         help="evaluate a sampled parameter sweep of a snapshot and write it as CSV",
         description=DESCRIPTION,
     )
-    parser.add_argument("file", metavar="FILE", help="snapshot file (JSON) giving the fixed parameters")
+    add_snapshot_arguments(parser)
     parser.add_argument(
         "--vary", metavar="KEY=LOW:HIGH[:log]", type=_range, action="append", required=True,
         help="a cycle parameter and its range (repeat for several); ':log' samples in log",
@@ -62,10 +62,6 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
                         help="seed of the sample (default 0)")
     parser.add_argument("--design", choices=SAMPLING_DESIGNS, default="sobol",
                         help="sampling design (default sobol)")
-    parser.add_argument("--model", choices=MODELS, default=None,
-                        help="override the snapshot's model")
-    parser.add_argument("--readout", choices=READOUTS, default=None,
-                        help="override the snapshot's readout")
     parser.add_argument("--scheduler", metavar="ADDRESS", default=None,
                         help="Dask scheduler address (e.g. tcp://127.0.0.1:8786); default: this machine")
     parser.add_argument("--out", metavar="FILE.csv", required=True, help="CSV file to write")
@@ -81,8 +77,8 @@ def run(args: argparse.Namespace) -> int:
     for k, key in enumerate(keys):
         if key in keys[:k]:
             raise UserError(f"--vary: parameter `{key}` is given twice")
-    snapshot = load_snapshot(args.file)
-    check_output_path(args.out, overwrite=args.force)  # fail before the work, not after
+    snapshot = read_snapshot(args.file)
+    check_output_path(args.out, args.force, (args.file,))  # fail before the work, not after
     show = sys.stderr.isatty() if args.progress is None else args.progress
     result = run_sweep(
         snapshot.cycle,
@@ -95,5 +91,10 @@ def run(args: argparse.Namespace) -> int:
         client=args.scheduler,
         progress=TextProgress("sweep") if show else None,
     )
-    write_table_csv(args.out, result.columns, result.table(), overwrite=args.force)
+    try:
+        write_table_csv(args.out, result.columns, result.table(), overwrite=args.force)
+    except FileExistsError:
+        raise UserError(f"{args.out}: file exists; pass --force to replace it") from None
+    except OSError as exc:
+        raise UserError(f"{args.out}: cannot be written ({exc.strerror or exc})") from None
     return 0

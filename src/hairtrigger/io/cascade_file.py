@@ -38,12 +38,15 @@ from .files import atomic_write
 
 __all__ = [
     "CASCADE_FORMAT",
+    "CASCADE_EXAMPLES_DIR",
     "CASCADE_VERSION",
     "CascadeFileError",
+    "cascade_example_path",
     "cascade_from_dict",
     "cascade_to_dict",
     "dumps_cascade",
     "load_cascade",
+    "list_cascade_examples",
     "loads_cascade",
     "save_cascade",
 ]
@@ -54,6 +57,9 @@ CASCADE_VERSION: Final[int] = 1
 FILE_SITES: Final[tuple[int, ...]] = (1, 2)
 #: A cascade file is a few kilobytes; anything far larger is refused before reading.
 MAX_CASCADE_BYTES: Final[int] = 1 << 20
+
+#: Bundled example cascades (invented scenarios), kept apart from the example snapshots.
+CASCADE_EXAMPLES_DIR: Final[Path] = Path(__file__).resolve().parent.parent / "examples" / "cascades"
 
 _TOP_KEYS: Final[tuple[str, ...]] = (
     "format", "version", "title", "notes", "units", "input_enzyme_total", "levels",
@@ -306,3 +312,29 @@ def save_cascade(cascade: Cascade, path: str | os.PathLike[str], overwrite: bool
         The folder does not exist or writing failed; an existing file keeps its content.
     """
     return atomic_write(path, dumps_cascade(cascade), overwrite=overwrite)
+
+
+def list_cascade_examples() -> list[str]:
+    """Names of the bundled example cascades (without ``.json``), sorted."""
+    return sorted(path.stem for path in CASCADE_EXAMPLES_DIR.glob("*.json"))
+
+
+def cascade_example_path(name: str) -> Path:
+    """File of the bundled example cascade `name` (with or without ``.json``).
+
+    Raises
+    ------
+    ValueError
+        No example has that name; the message lists those there are.
+
+    Examples
+    --------
+    >>> cascade_example_path("tidepool_relay").name
+    'tidepool_relay.json'
+    """
+    stem = str(name).removesuffix(".json")
+    names = list_cascade_examples()
+    if stem not in names:
+        msg = f"no example cascade named `{name}`; available: {', '.join(names)}"
+        raise ValueError(msg)
+    return CASCADE_EXAMPLES_DIR / f"{stem}.json"
