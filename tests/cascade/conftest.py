@@ -40,12 +40,18 @@ def two_level() -> Cascade:
         0.002,
         (
             CascadeLevel(
-                "upper", 1, 0.05, 0.004,
+                "upper",
+                1,
+                0.05,
+                0.004,
                 EnzymeConstants(kon=200.0, koff=30.0, kcat=12.0),
                 EnzymeConstants(kon=300.0, koff=20.0, kcat=5.0),
             ),
             CascadeLevel(
-                "lower", 2, 0.6, 0.03,
+                "lower",
+                2,
+                0.6,
+                0.03,
                 EnzymeConstants(kon=500.0, koff=80.0, kcat=40.0),
                 EnzymeConstants(kon=250.0, koff=10.0, kcat=8.0),
             ),

@@ -40,7 +40,10 @@ def test_contract(huang_ferrell, tmp_path, capsys):
 def test_subprocess_and_example(cli_env, python):
     out = subprocess.run(
         [python, "-m", "hairtrigger", "cascade", "example:tidepool_relay", "--scan", "1e-6:0.1"],
-        capture_output=True, text=True, env={**cli_env, "PYTHONWARNINGS": "error"}, check=False,
+        capture_output=True,
+        text=True,
+        env={**cli_env, "PYTHONWARNINGS": "error"},
+        check=False,
         timeout=120,
     )
     assert out.returncode == 0, out.stderr
@@ -49,8 +52,17 @@ def test_subprocess_and_example(cli_env, python):
 
 
 def test_nulls_and_warnings_outside_the_scan(capsys):
-    status, out, _ = run(["cascade", str(cascade_example_path("tidepool_relay")), "--scan",
-                          "1e-6:2e-5", "--points", "10"], capsys)
+    status, out, _ = run(
+        [
+            "cascade",
+            str(cascade_example_path("tidepool_relay")),
+            "--scan",
+            "1e-6:2e-5",
+            "--points",
+            "10",
+        ],
+        capsys,
+    )
     assert status == 0
     result = json.loads(out)
     assert result["levels"][0]["free"]["ec90"] is None

@@ -37,7 +37,14 @@ def test_round_trip_is_exact(two_level, tmp_path):
 def test_contract_keys(document):
     assert document["format"] == "hairtrigger.cascade" and document["version"] == 1
     level = document["levels"][0]
-    assert set(level) == {"name", "sites", "substrate_total", "phosphatase_total", "kinase", "phosphatase"}
+    assert set(level) == {
+        "name",
+        "sites",
+        "substrate_total",
+        "phosphatase_total",
+        "kinase",
+        "phosphatase",
+    }
     assert set(level["kinase"]) == set(level["phosphatase"]) == {"kon", "koff", "kcat"}
 
 

@@ -70,8 +70,13 @@ def test_huang_ferrell_against_brute_force_integration(huang_ferrell):
     start = model.zero_input_state()
     start[0] = stimulus
     sol = solve_ivp(
-        lambda _t, y: model.network.rhs(y), (0.0, 2e5), start, method="LSODA",
-        jac=lambda _t, y: model.network.jacobian(y), rtol=1e-10, atol=1e-16,
+        lambda _t, y: model.network.rhs(y),
+        (0.0, 2e5),
+        start,
+        method="LSODA",
+        jac=lambda _t, y: model.network.jacobian(y),
+        rtol=1e-10,
+        atol=1e-16,
     )
     assert sol.success
     ours = cascade_steady_state(huang_ferrell, stimulus)
@@ -90,7 +95,9 @@ def test_plateau_is_the_limit_of_large_inputs(huang_ferrell):
     np.testing.assert_allclose(big.total[2], plateau.total, atol=1e-6)
 
 
-@pytest.mark.parametrize("readout,definition", [("total_modified", "total"), ("free_modified", "free")])
+@pytest.mark.parametrize(
+    "readout,definition", [("total_modified", "total"), ("free_modified", "free")]
+)
 def test_one_level_cascade_matches_core_closed_form(readout, definition):
     """A single-site, single-level cascade is the mass-action cycle of the core, whose relative
     thresholds come from its closed-form inverse map (independent code)."""
@@ -99,9 +106,15 @@ def test_one_level_cascade_matches_core_closed_form(readout, definition):
     cascade = Cascade(0.0, (CascadeLevel("only", 1, 1.3, 0.4, kinase, phosphatase),))
     response = cascade_response(cascade, 1e-3, 1e3, 60)
     params = {
-        "substrate_total": 1.3, "kinase_total": 1.0, "kinase_kcat": 2.0,
-        "kinase_km": kinase.km, "kinase_kon": 40.0, "phosphatase_total": 0.4,
-        "phosphatase_kcat": 1.5, "phosphatase_km": phosphatase.km, "phosphatase_kon": 25.0,
+        "substrate_total": 1.3,
+        "kinase_total": 1.0,
+        "kinase_kcat": 2.0,
+        "kinase_km": kinase.km,
+        "kinase_kon": 40.0,
+        "phosphatase_total": 0.4,
+        "phosphatase_kcat": 1.5,
+        "phosphatase_km": phosphatase.km,
+        "phosphatase_kon": 25.0,
     }
     core = thresholds(params, "mass_action", readout, relative=True)
     v2_over_k1 = 1.5 * 0.4 / 2.0
@@ -122,8 +135,15 @@ def test_two_level_against_relaxation_and_brentq(two_level):
     nudged = species.copy()
     nudged[model.free_forms[1][0]] *= 1.05
     nudged[model.free_forms[1][2]] -= 0.05 * species[model.free_forms[1][0]]
-    sol = solve_ivp(lambda _t, y: model.network.rhs(y), (0, 5e4), nudged, method="LSODA",
-                    jac=lambda _t, y: model.network.jacobian(y), rtol=1e-10, atol=1e-15)
+    sol = solve_ivp(
+        lambda _t, y: model.network.rhs(y),
+        (0, 5e4),
+        nudged,
+        method="LSODA",
+        jac=lambda _t, y: model.network.jacobian(y),
+        rtol=1e-10,
+        atol=1e-15,
+    )
     np.testing.assert_allclose(sol.y[:, -1], species, rtol=1e-5, atol=1e-12)
     # And EC50 of the lower level by brentq over our own steady-state map agrees with the
     # vectorised regula falsi.

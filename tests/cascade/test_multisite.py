@@ -33,7 +33,9 @@ def gunawardena(u, n):
 @pytest.mark.parametrize("n", [1, 2, 3, 6])
 def test_first_order_closed_form(n):
     u = np.array([0.05, 0.5, 0.9, 1.1, 2.0, 7.0, 40.0])
-    np.testing.assert_allclose(fully_modified_fraction_first_order(u, n), gunawardena(u, n), rtol=1e-13)
+    np.testing.assert_allclose(
+        fully_modified_fraction_first_order(u, n), gunawardena(u, n), rtol=1e-13
+    )
     assert fully_modified_fraction_first_order(1.0, n) == pytest.approx(1.0 / (n + 1))
 
 
@@ -50,8 +52,12 @@ def test_two_sites_ec50_at_the_golden_ratio():
 
 def test_many_sites_hill_coefficient_tends_to_two():
     """n → ∞: fraction → 1 − 1/u, EC90/EC10 → 10/(10/9) = 9, nH → 2 [F, Gunawardena 2005]."""
-    values = [multisite_response(MultisiteCycle(n, 1.0, 0.0, 1.0, LINEAR, LINEAR), "first_order")
-              .free.hill_coefficient for n in (2, 8, 64)]
+    values = [
+        multisite_response(
+            MultisiteCycle(n, 1.0, 0.0, 1.0, LINEAR, LINEAR), "first_order"
+        ).free.hill_coefficient
+        for n in (2, 8, 64)
+    ]
     assert values[0] < values[1] < values[2] < 2.0
     assert values[2] == pytest.approx(2.0, abs=1e-3)
     # n = 1 is Michaelian: nH = 1 exactly.
@@ -61,6 +67,7 @@ def test_many_sites_hill_coefficient_tends_to_two():
 
 def test_two_site_first_order_hill_from_the_closed_form():
     """nH for n = 2 from solving u²/(u² + u + 1) = f directly [F]."""
+
     def u_at(f):  # (1 − f)u² − f·u − f = 0
         return (f + math.sqrt(f * f + 4 * (1 - f) * f)) / (2 * (1 - f))
 
@@ -73,7 +80,10 @@ def test_two_site_first_order_hill_from_the_closed_form():
 def saturable() -> MultisiteCycle:
     """Invented cycle with saturable, unequal enzymes (not a check value)."""
     return MultisiteCycle(
-        2, 1.0, 0.0, 0.3,
+        2,
+        1.0,
+        0.0,
+        0.3,
         EnzymeConstants(kon=10.0, koff=1.0, kcat=2.0),
         EnzymeConstants(kon=5.0, koff=0.5, kcat=1.0),
     )
@@ -111,13 +121,20 @@ def test_mass_action_species_are_stationary(saturable):
     assert np.max(model.conservation_error(species, s["kinase_total"])) < 1e-12
 
 
-@pytest.mark.parametrize("readout,definition", [("total_modified", "total"), ("free_modified", "free")])
+@pytest.mark.parametrize(
+    "readout,definition", [("total_modified", "total"), ("free_modified", "free")]
+)
 def test_single_site_mass_action_matches_core(saturable, readout, definition):
     one = MultisiteCycle(1, 1.0, 0.0, 0.3, saturable.kinase, saturable.phosphatase)
     params = {
-        "substrate_total": 1.0, "kinase_total": 1.0, "kinase_kcat": 2.0,
-        "kinase_km": saturable.kinase.km, "kinase_kon": 10.0, "phosphatase_total": 0.3,
-        "phosphatase_kcat": 1.0, "phosphatase_km": saturable.phosphatase.km,
+        "substrate_total": 1.0,
+        "kinase_total": 1.0,
+        "kinase_kcat": 2.0,
+        "kinase_km": saturable.kinase.km,
+        "kinase_kon": 10.0,
+        "phosphatase_total": 0.3,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": saturable.phosphatase.km,
         "phosphatase_kon": 5.0,
     }
     core = thresholds(params, "mass_action", readout, relative=True)
@@ -132,12 +149,19 @@ def test_single_site_michaelis_menten_is_goldbeter_koshland(saturable):
     kinase = np.geomspace(0.01, 10.0, 7)
     state = multisite_steady_state(one, kinase, "michaelis_menten")
     params = {
-        "substrate_total": 1.0, "kinase_total": kinase, "kinase_kcat": 2.0,
-        "kinase_km": saturable.kinase.km, "kinase_kon": 10.0, "phosphatase_total": 0.3,
-        "phosphatase_kcat": 1.0, "phosphatase_km": saturable.phosphatase.km,
+        "substrate_total": 1.0,
+        "kinase_total": kinase,
+        "kinase_kcat": 2.0,
+        "kinase_km": saturable.kinase.km,
+        "kinase_kon": 10.0,
+        "phosphatase_total": 0.3,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": saturable.phosphatase.km,
         "phosphatase_kon": 5.0,
     }
-    np.testing.assert_allclose(state.free, steady_state(params, "quasi_steady").modified, rtol=1e-12)
+    np.testing.assert_allclose(
+        state.free, steady_state(params, "quasi_steady").modified, rtol=1e-12
+    )
 
 
 @pytest.mark.parametrize("model", MULTISITE_MODELS)
@@ -171,17 +195,29 @@ def test_rising_input_branch_is_the_running_maximum():
     log_u = np.array([0.0, 1.0])
     ecs = multisite_state_at_ratio(cycle, log_u, "first_order")["kinase_total"]
     # Monotone inverse: the running maximum is the value itself (to the fine grid).
-    np.testing.assert_allclose(_along_rising_input(cycle, "first_order", log_u, ecs), ecs, rtol=2e-3)
+    np.testing.assert_allclose(
+        _along_rising_input(cycle, "first_order", log_u, ecs), ecs, rtol=2e-3
+    )
 
 
 @pytest.mark.parametrize(
     "kwargs,match",
-    [({"sites": 0}, "sites"), ({"sites": 1.5}, "sites"), ({"substrate_total": 0.0}, "substrate_total"),
-     ({"kinase_total": -1.0}, "kinase_total")],
+    [
+        ({"sites": 0}, "sites"),
+        ({"sites": 1.5}, "sites"),
+        ({"substrate_total": 0.0}, "substrate_total"),
+        ({"kinase_total": -1.0}, "kinase_total"),
+    ],
 )
 def test_bad_cycles(kwargs, match):
-    base = {"sites": 2, "substrate_total": 1.0, "kinase_total": 0.0, "phosphatase_total": 1.0,
-            "kinase": LINEAR, "phosphatase": LINEAR}
+    base = {
+        "sites": 2,
+        "substrate_total": 1.0,
+        "kinase_total": 0.0,
+        "phosphatase_total": 1.0,
+        "kinase": LINEAR,
+        "phosphatase": LINEAR,
+    }
     base.update(kwargs)
     with pytest.raises(ValueError, match=match):
         MultisiteCycle(**base)

@@ -25,8 +25,10 @@ def test_jacobian_matches_central_differences(two_level):
     h = 1e-7
     eye = np.eye(x.size)
     numeric = np.stack(
-        [(model.network.rhs(x + h * eye[k]) - model.network.rhs(x - h * eye[k])) / (2 * h)
-         for k in range(x.size)],
+        [
+            (model.network.rhs(x + h * eye[k]) - model.network.rhs(x - h * eye[k])) / (2 * h)
+            for k in range(x.size)
+        ],
         axis=1,
     )
     np.testing.assert_allclose(jac, numeric, rtol=1e-6, atol=1e-9 * np.max(np.abs(jac)))
@@ -39,8 +41,12 @@ def test_batched_evaluation_equals_single(two_level):
     batched = model.network.jacobian(states)
     for k in range(5):
         # Equal to rounding (matrix products may group sums differently in a batch).
-        np.testing.assert_allclose(batched[k], model.network.jacobian(states[k]), rtol=1e-13, atol=1e-12)
-        np.testing.assert_allclose(model.network.rhs(states)[k], model.network.rhs(states[k]), rtol=1e-13, atol=1e-12)
+        np.testing.assert_allclose(
+            batched[k], model.network.jacobian(states[k]), rtol=1e-13, atol=1e-12
+        )
+        np.testing.assert_allclose(
+            model.network.rhs(states)[k], model.network.rhs(states[k]), rtol=1e-13, atol=1e-12
+        )
 
 
 def test_network_conserves_every_moiety(huang_ferrell):
@@ -105,8 +111,15 @@ def test_step_from_zero_input_against_scipy_directly(two_level):
     start = model.zero_input_state()
     start[0] = 0.004
     t = np.linspace(0.0, 30.0, 7)
-    sol = solve_ivp(lambda _t, y: model.network.rhs(y), (0, 30.0), start, method="Radau",
-                    t_eval=t, rtol=1e-10, atol=1e-14)
+    sol = solve_ivp(
+        lambda _t, y: model.network.rhs(y),
+        (0, 30.0),
+        start,
+        method="Radau",
+        t_eval=t,
+        rtol=1e-10,
+        atol=1e-14,
+    )
     course = cascade_time_course(two_level, 0.004, 30.0, 7, input_before=0.0)
     np.testing.assert_allclose(course.species, sol.y.T, rtol=1e-5, atol=1e-10)
 

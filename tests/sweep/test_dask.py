@@ -12,8 +12,9 @@ RANGES = ["kinase_km=0.001:1:log", "phosphatase_km=0.001:1:log", "substrate_tota
 
 def test_cluster_sweep_equals_local_sweep(cycle, dask_client):
     local = run_sweep(cycle, RANGES, 3000, model="mass_action", seed=4, chunk_size=512)
-    remote = run_sweep(cycle, RANGES, 3000, model="mass_action", seed=4, chunk_size=512,
-                       client=dask_client)
+    remote = run_sweep(
+        cycle, RANGES, 3000, model="mass_action", seed=4, chunk_size=512, client=dask_client
+    )
     assert remote.table().tobytes() == local.table().tobytes()
     assert remote.columns == local.columns
 
@@ -22,8 +23,15 @@ def test_cluster_by_scheduler_address(cycle, dask_client):
     address = dask_client.scheduler.address
     calls = []
     local = run_sweep(cycle, RANGES, 500, seed=1, chunk_size=100)
-    remote = run_sweep(cycle, RANGES, 500, seed=1, chunk_size=100, client=address,
-                       progress=lambda d, t: calls.append(d))
+    remote = run_sweep(
+        cycle,
+        RANGES,
+        500,
+        seed=1,
+        chunk_size=100,
+        client=address,
+        progress=lambda d, t: calls.append(d),
+    )
     assert remote.table().tobytes() == local.table().tobytes()
     assert calls[0] == 0 and calls[-1] == 500 and len(calls) == 6
 
@@ -33,7 +41,10 @@ def test_cluster_sensitivity_equals_local(cycle, dask_client):
     remote = cycle_sensitivity(cycle, RANGES[:2], 128, bootstrap=20, client=dask_client)
     for name in local:
         assert local[name].total.tobytes() == remote[name].total.tobytes()
-        assert local[name].first_order_interval.tobytes() == remote[name].first_order_interval.tobytes()
+        assert (
+            local[name].first_order_interval.tobytes()
+            == remote[name].first_order_interval.tobytes()
+        )
 
 
 def test_unreachable_scheduler_is_a_clear_error(cycle, monkeypatch):

@@ -25,7 +25,10 @@ from hairtrigger.core.sweep import (
     [
         ("kinase_km=0.01:1:log", ParameterRange("kinase_km", 0.01, 1.0, True)),
         ("substrate_total=0.5:5", ParameterRange("substrate_total", 0.5, 5.0, False)),
-        (" phosphatase_total=1e-3:2e-2:lin", ParameterRange("phosphatase_total", 1e-3, 2e-2, False)),
+        (
+            " phosphatase_total=1e-3:2e-2:lin",
+            ParameterRange("phosphatase_total", 1e-3, 2e-2, False),
+        ),
     ],
 )
 def test_parse_range(text, expected):
@@ -82,8 +85,14 @@ def test_sobol_prefix_property_and_discrepancy():
 
 
 def test_sweep_values_equal_direct_evaluation(cycle):
-    result = run_sweep(cycle, ["kinase_km=0.01:1:log", "phosphatase_total=0.01:0.1"], 200,
-                       model="mass_action", readout="free_modified", seed=2)
+    result = run_sweep(
+        cycle,
+        ["kinase_km=0.01:1:log", "phosphatase_total=0.01:0.1"],
+        200,
+        model="mass_action",
+        readout="free_modified",
+        seed=2,
+    )
     params = {**cycle.as_dict(), **result.samples}
     direct = evaluate_arrays(params, "mass_action", "free_modified")
     for name in EVALUATE_QUANTITIES:
@@ -102,22 +111,32 @@ def test_chunk_size_does_not_change_a_single_bit(cycle, chunk_size):
 
 def test_progress_is_reported(cycle):
     calls = []
-    run_sweep(cycle, ["kinase_km=0.01:1"], 100, chunk_size=30, progress=lambda d, t: calls.append((d, t)))
+    run_sweep(
+        cycle, ["kinase_km=0.01:1"], 100, chunk_size=30, progress=lambda d, t: calls.append((d, t))
+    )
     assert calls == [(0, 100), (30, 100), (60, 100), (90, 100), (100, 100)]
 
 
 def test_relaxation_half_time_symmetric_point():
     """At K1 = K2 = K, V1 = V2 = V: τ = W(K + 0.5)²/(2VK) [F, REFERENCES.md Dynamics]."""
     for k in (0.01, 0.5, 3.0):
-        params = {"substrate_total": 2.0, "kinase_total": 0.1, "kinase_kcat": 4.0,
-                  "kinase_km": 2.0 * k, "phosphatase_total": 0.2, "phosphatase_kcat": 2.0,
-                  "phosphatase_km": 2.0 * k}
+        params = {
+            "substrate_total": 2.0,
+            "kinase_total": 0.1,
+            "kinase_kcat": 4.0,
+            "kinase_km": 2.0 * k,
+            "phosphatase_total": 0.2,
+            "phosphatase_kcat": 2.0,
+            "phosphatase_km": 2.0 * k,
+        }
         tau = 2.0 * (k + 0.5) ** 2 / (2 * 0.4 * k)
         assert float(relaxation_half_time(params)) == pytest.approx(math.log(2) * tau, rel=1e-12)
 
 
 def test_half_time_output(cycle):
-    result = run_sweep(cycle, ["kinase_km=0.01:1:log"], 16, outputs=["half_time", "hill_coefficient"])
+    result = run_sweep(
+        cycle, ["kinase_km=0.01:1:log"], 16, outputs=["half_time", "hill_coefficient"]
+    )
     assert list(result.outputs) == ["half_time", "hill_coefficient"]
     assert np.all(result.outputs["half_time"] > 0)
 

@@ -37,15 +37,18 @@ def ishigami_analytic():
 
 @pytest.fixture(scope="module")
 def ishigami_indices():
-    return sobol_indices(ishigami, [(-math.pi, math.pi)] * 3, 2**13, names=["x1", "x2", "x3"],
-                         seed=11, bootstrap=300)
+    return sobol_indices(
+        ishigami, [(-math.pi, math.pi)] * 3, 2**13, names=["x1", "x2", "x3"], seed=11, bootstrap=300
+    )
 
 
 def test_ishigami_indices_match_analytic(ishigami_indices):
     first, total = ishigami_analytic()
     np.testing.assert_allclose(ishigami_indices.first_order, first, atol=0.02)
     np.testing.assert_allclose(ishigami_indices.total, total, atol=0.02)
-    assert first[0] == pytest.approx(0.3139, abs=1e-4) and total[2] == pytest.approx(0.2437, abs=1e-4)
+    assert first[0] == pytest.approx(0.3139, abs=1e-4) and total[2] == pytest.approx(
+        0.2437, abs=1e-4
+    )
 
 
 def test_ishigami_bootstrap_intervals_cover_the_truth(ishigami_indices):
@@ -110,9 +113,13 @@ def test_cycle_sensitivity_finds_the_inert_parameter(cycle):
     result = cycle_sensitivity(
         cycle,
         ["kinase_km=0.01:1:log", "phosphatase_km=0.01:1:log", "kinase_total=0.01:0.05:log"],
-        256, model="mass_action", bootstrap=100,
+        256,
+        model="mass_action",
+        bootstrap=100,
     )
-    threshold, steepness, half = (result[k] for k in ("activity_ratio_50", "hill_coefficient", "half_time"))
+    threshold, steepness, half = (
+        result[k] for k in ("activity_ratio_50", "hill_coefficient", "half_time")
+    )
     for indices in (threshold, steepness):
         assert indices.first_order[2] == 0.0 and indices.total[2] == 0.0
         assert indices.total[0] > 0.05 and indices.total[1] > 0.05

@@ -19,8 +19,21 @@ EXAMPLE = "example:scarce_enzyme_switch"
 
 def sweep(tmp_path, capsys, *extra, name="s.csv"):
     out = tmp_path / name
-    status = main(["sweep", EXAMPLE, "--vary", "kinase_km=0.01:1:log", "--vary",
-                   "phosphatase_total=0.01:0.1", "--samples", "40", "--out", str(out), *extra])
+    status = main(
+        [
+            "sweep",
+            EXAMPLE,
+            "--vary",
+            "kinase_km=0.01:1:log",
+            "--vary",
+            "phosphatase_total=0.01:0.1",
+            "--samples",
+            "40",
+            "--out",
+            str(out),
+            *extra,
+        ]
+    )
     return status, out, capsys.readouterr()
 
 
@@ -34,7 +47,11 @@ def test_contract_header_and_rows(tmp_path, capsys):
     # Every row is what evaluate computes at that row's parameters.
     snapshot = load_example("scarce_enzyme_switch")
     table = np.array([[float(x) if x else math.nan for x in row] for row in rows[1:]])
-    params = {**snapshot.cycle.as_dict(), "kinase_km": table[:, 0], "phosphatase_total": table[:, 1]}
+    params = {
+        **snapshot.cycle.as_dict(),
+        "kinase_km": table[:, 0],
+        "phosphatase_total": table[:, 1],
+    }
     direct = evaluate_arrays(params, "mass_action", snapshot.readout)
     for k, name in enumerate(EVALUATE_QUANTITIES):
         np.testing.assert_array_equal(table[:, 2 + k], direct[name])
@@ -50,8 +67,22 @@ def test_same_seed_byte_identical_and_seed_default_zero(tmp_path, capsys):
 
 def test_unreachable_values_are_empty_fields(tmp_path, capsys):
     out = tmp_path / "s.csv"
-    main(["sweep", EXAMPLE, "--vary", "kinase_total=1:10:log", "--vary", "phosphatase_total=1:20",
-          "--samples", "8", "--model", "mass_action", "--out", str(out)])
+    main(
+        [
+            "sweep",
+            EXAMPLE,
+            "--vary",
+            "kinase_total=1:10:log",
+            "--vary",
+            "phosphatase_total=1:20",
+            "--samples",
+            "8",
+            "--model",
+            "mass_action",
+            "--out",
+            str(out),
+        ]
+    )
     with open(out, newline="") as handle:
         rows = list(csv.DictReader(handle))
     assert any(row["activity_ratio_90"] == "" for row in rows)
@@ -60,8 +91,9 @@ def test_unreachable_values_are_empty_fields(tmp_path, capsys):
 
 def test_on_a_local_cluster_byte_identical(tmp_path, capsys, dask_client):
     _, local, _ = sweep(tmp_path, capsys, name="local.csv")
-    status, remote, captured = sweep(tmp_path, capsys, "--scheduler", dask_client.scheduler.address,
-                                     name="remote.csv")
+    status, remote, captured = sweep(
+        tmp_path, capsys, "--scheduler", dask_client.scheduler.address, name="remote.csv"
+    )
     assert status == 0, captured.err
     assert local.read_bytes() == remote.read_bytes()
 
@@ -74,9 +106,25 @@ def test_progress_bar_on_request(tmp_path, capsys):
 def test_subprocess_run(tmp_path, cli_env, python):
     out = tmp_path / "s.csv"
     done = subprocess.run(
-        [python, "-m", "hairtrigger", "sweep", EXAMPLE, "--vary", "kinase_km=0.01:1:log",
-         "--samples", "5", "--design", "lhs", "--out", str(out)],
-        capture_output=True, text=True, env={**cli_env, "PYTHONWARNINGS": "error"}, timeout=120,
+        [
+            python,
+            "-m",
+            "hairtrigger",
+            "sweep",
+            EXAMPLE,
+            "--vary",
+            "kinase_km=0.01:1:log",
+            "--samples",
+            "5",
+            "--design",
+            "lhs",
+            "--out",
+            str(out),
+        ],
+        capture_output=True,
+        text=True,
+        env={**cli_env, "PYTHONWARNINGS": "error"},
+        timeout=120,
     )
     assert done.returncode == 0, done.stderr
     assert done.stderr == "" and len(out.read_text().splitlines()) == 6
@@ -119,11 +167,31 @@ def test_existing_output_is_refused_unless_forced(tmp_path, capsys):
 
 
 def test_missing_folder_and_snapshot(tmp_path, capsys):
-    status = main(["sweep", EXAMPLE, "--vary", "kinase_km=0.1:1", "--samples", "3",
-                   "--out", str(tmp_path / "nope" / "s.csv")])
+    status = main(
+        [
+            "sweep",
+            EXAMPLE,
+            "--vary",
+            "kinase_km=0.1:1",
+            "--samples",
+            "3",
+            "--out",
+            str(tmp_path / "nope" / "s.csv"),
+        ]
+    )
     assert status == 2 and "does not exist" in capsys.readouterr().err
-    status = main(["sweep", str(tmp_path / "x.json"), "--vary", "kinase_km=0.1:1", "--samples", "3",
-                   "--out", str(tmp_path / "s.csv")])
+    status = main(
+        [
+            "sweep",
+            str(tmp_path / "x.json"),
+            "--vary",
+            "kinase_km=0.1:1",
+            "--samples",
+            "3",
+            "--out",
+            str(tmp_path / "s.csv"),
+        ]
+    )
     assert status == 2 and "no such file" in capsys.readouterr().err
 
 

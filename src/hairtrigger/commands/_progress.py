@@ -38,8 +38,7 @@ class TextProgress:
         elapsed = now - self._started
         rate = done / elapsed if elapsed > 0 else 0.0
         self.stream.write(
-            f"\r{self.label}: [{bar:<{width}}] {100 * fraction:5.1f}% {done}/{total}"
-            f"  {rate:,.0f}/s"
+            f"\r{self.label}: [{bar:<{width}}] {100 * fraction:5.1f}% {done}/{total}  {rate:,.0f}/s"
         )
         if done >= total:
             self.stream.write("\n")

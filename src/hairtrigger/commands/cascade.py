@@ -61,16 +61,23 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         description=DESCRIPTION,
     )
     parser.add_argument(
-        "file", metavar="FILE",
+        "file",
+        metavar="FILE",
         help=f"cascade file (JSON, format hairtrigger.cascade), or {EXAMPLE_PREFIX}NAME for a "
         f"bundled example ({', '.join(list_cascade_examples())})",
     )
     parser.add_argument(
-        "--scan", metavar="LOW:HIGH", type=_scan_range, required=True,
+        "--scan",
+        metavar="LOW:HIGH",
+        type=_scan_range,
+        required=True,
         help="range of the input enzyme total to scan, uM (log-spaced)",
     )
     parser.add_argument(
-        "--points", metavar="N", type=_points, default=200,
+        "--points",
+        metavar="N",
+        type=_points,
+        default=200,
         help="number of scan points (default 200)",
     )
     parser.set_defaults(func=run)

@@ -53,21 +53,47 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     )
     add_snapshot_arguments(parser)
     parser.add_argument(
-        "--vary", metavar="KEY=LOW:HIGH[:log]", type=_range, action="append", required=True,
+        "--vary",
+        metavar="KEY=LOW:HIGH[:log]",
+        type=_range,
+        action="append",
+        required=True,
         help="a cycle parameter and its range (repeat for several); ':log' samples in log",
     )
-    parser.add_argument("--samples", metavar="N", type=_whole("--samples", 1), required=True,
-                        help="number of samples")
-    parser.add_argument("--seed", metavar="S", type=_whole("--seed", 0), default=0,
-                        help="seed of the sample (default 0)")
-    parser.add_argument("--design", choices=SAMPLING_DESIGNS, default="sobol",
-                        help="sampling design (default sobol)")
-    parser.add_argument("--scheduler", metavar="ADDRESS", default=None,
-                        help="Dask scheduler address (e.g. tcp://127.0.0.1:8786); default: this machine")
+    parser.add_argument(
+        "--samples",
+        metavar="N",
+        type=_whole("--samples", 1),
+        required=True,
+        help="number of samples",
+    )
+    parser.add_argument(
+        "--seed",
+        metavar="S",
+        type=_whole("--seed", 0),
+        default=0,
+        help="seed of the sample (default 0)",
+    )
+    parser.add_argument(
+        "--design",
+        choices=SAMPLING_DESIGNS,
+        default="sobol",
+        help="sampling design (default sobol)",
+    )
+    parser.add_argument(
+        "--scheduler",
+        metavar="ADDRESS",
+        default=None,
+        help="Dask scheduler address (e.g. tcp://127.0.0.1:8786); default: this machine",
+    )
     parser.add_argument("--out", metavar="FILE.csv", required=True, help="CSV file to write")
     parser.add_argument("--force", action="store_true", help="replace an existing --out file")
-    parser.add_argument("--progress", action=argparse.BooleanOptionalAction, default=None,
-                        help="show a progress bar on standard error (default: when it is a terminal)")
+    parser.add_argument(
+        "--progress",
+        action=argparse.BooleanOptionalAction,
+        default=None,
+        help="show a progress bar on standard error (default: when it is a terminal)",
+    )
     parser.set_defaults(func=run)
 
 

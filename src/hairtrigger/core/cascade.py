@@ -39,7 +39,6 @@ from typing import Any, Final
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy.integrate import solve_ivp
 
 from .network import FloatArray, Reaction, ReactionNetwork, totals_matrix
 
@@ -59,6 +58,7 @@ STATIONARITY_TOLERANCE: Final[float] = 1e-8
 
 
 # --- parameters -------------------------------------------------------------------------------
+
 
 def _check_number(name: str, value: Any, *, allow_zero: bool = False) -> float:
     """Return `value` as float if finite and > 0 (or ≥ 0 with `allow_zero`), else raise."""
@@ -234,6 +234,7 @@ class Cascade:
 
 # --- the model: full network and its monomial reduction ---------------------------------------
 
+
 @dataclass(frozen=True)
 class _LogSystem:
     """Species as monomials ``exp(logc + M·x)``; residuals ``C·species / totals − 1``."""
@@ -292,7 +293,12 @@ def _newton(
         try:
             dx = np.linalg.solve(jac[todo], -res[todo][..., None])[..., 0]
         except np.linalg.LinAlgError:
-            dx = np.stack([np.linalg.lstsq(j, -r, rcond=None)[0] for j, r in zip(jac[todo], res[todo], strict=True)])
+            dx = np.stack(
+                [
+                    np.linalg.lstsq(j, -r, rcond=None)[0]
+                    for j, r in zip(jac[todo], res[todo], strict=True)
+                ]
+            )
         big = np.max(np.abs(dx), axis=1)
         dx *= np.minimum(1.0, max_step / np.where(big > 0, big, 1.0))[:, None]
         step = np.ones(todo.size)
@@ -530,6 +536,7 @@ class CascadeModel:
 
 # --- results -----------------------------------------------------------------------------------
 
+
 @dataclass(frozen=True)
 class CascadeScan:
     """Steady states of a cascade along a list of input amounts.
@@ -680,6 +687,7 @@ class CascadeResponse:
 
     def as_dict(self) -> dict[str, Any]:
         """JSON-ready content of ``hairtrigger cascade`` (DESIGN.md §4, plus context keys)."""
+
         def level_entry(level: LevelResponse) -> dict[str, Any]:
             return {
                 "name": level.name,
@@ -722,6 +730,7 @@ def _check_definition(definition: str) -> None:
 
 # --- continuation -------------------------------------------------------------------------------
 
+
 class _Tracer:
     """Natural-parameter continuation of the reduced system in s = ln(input)."""
 
@@ -759,7 +768,9 @@ class _Tracer:
             h_now = min(h, s_target - s)
             predicted = x + h_now * self.tangent(x, s)
             res = _newton(
-                self.model.system, predicted[None, :], self.model.totals(math.exp(s + h_now)),
+                self.model.system,
+                predicted[None, :],
+                self.model.totals(math.exp(s + h_now)),
                 max_iterations=12,
             )
             jump = float(np.max(np.abs(res.x[0] - predicted)))
@@ -777,13 +788,20 @@ class _Tracer:
 
 def _relax(model: CascadeModel, species: FloatArray, input_total: float) -> FloatArray | None:
     """Integrate the full ODE from `species` with the input changed until still; polish."""
+    from scipy.integrate import solve_ivp  # only on this rare path (keeps imports light)
+
     start = _apply_input_step(model, species, input_total)
     scale = _slowest_time(model.cascade)
     y = start
     for _ in range(6):
         sol = solve_ivp(
-            lambda _t, v: model.network.rhs(v), (0.0, 100.0 * scale), y, method="LSODA",
-            jac=lambda _t, v: model.network.jacobian(v), rtol=1e-9, atol=1e-14,
+            lambda _t, v: model.network.rhs(v),
+            (0.0, 100.0 * scale),
+            y,
+            method="LSODA",
+            jac=lambda _t, v: model.network.jacobian(v),
+            rtol=1e-9,
+            atol=1e-14,
         )
         y = np.maximum(sol.y[:, -1], 1e-300)
         if model.network.stationarity(y) < 1e-4:
@@ -815,7 +833,9 @@ def _slowest_time(cascade: Cascade) -> float:
     return max(times) + max(1.0 / lv.kinase.kcat for lv in cascade.levels)
 
 
-def _trace_inputs(model: CascadeModel, inputs: FloatArray) -> tuple[FloatArray, NDArray[np.bool_], list[str]]:
+def _trace_inputs(
+    model: CascadeModel, inputs: FloatArray
+) -> tuple[FloatArray, NDArray[np.bool_], list[str]]:
     """Unknowns at each (ascending, positive) input, by continuation from vanishing input."""
     tracer = _Tracer(model)
     logs = np.log(inputs)
@@ -982,6 +1002,7 @@ def cascade_steady_state(cascade: Cascade, input_enzyme_total: float | None = No
 
 # --- the plateau ----------------------------------------------------------------------------
 
+
 def _plateau_from(model: CascadeModel, s: float, x: FloatArray) -> CascadePlateau:
     """Solve the limiting system, continuing the input upward until its start is good."""
     tracer = _Tracer(model)
@@ -1013,6 +1034,7 @@ def cascade_plateau(cascade: Cascade) -> CascadePlateau:
 
 
 # --- EC values --------------------------------------------------------------------------------
+
 
 def _locate(
     model: CascadeModel,
@@ -1196,6 +1218,7 @@ def cascade_response(
 
 # --- time courses ----------------------------------------------------------------------------
 
+
 def _apply_input_step(model: CascadeModel, species: FloatArray, new_total: float) -> FloatArray:
     """State right after the input enzyme total is set to `new_total`.
 
@@ -1320,6 +1343,8 @@ def cascade_time_course(
     if method not in ("LSODA", "BDF", "Radau"):
         msg = f"`method` must be 'LSODA', 'BDF' or 'Radau'; got {method!r}"
         raise ValueError(msg)
+    from scipy.integrate import solve_ivp  # imported here so loading the module stays cheap
+
     model = CascadeModel(cascade)
     states = scan_cascade(model, [before, after])
     start = _apply_input_step(model, states.species[0], after)
@@ -1359,14 +1384,18 @@ def cascade_time_course(
     )
 
 
-def level_outputs_named(scan: CascadeScan | CascadeTimeCourse, definition: str) -> dict[str, FloatArray]:
+def level_outputs_named(
+    scan: CascadeScan | CascadeTimeCourse, definition: str
+) -> dict[str, FloatArray]:
     """Map each level name to its output column (``free`` or ``total``)."""
     _check_definition(definition)
     values = scan.free if definition == "free" else scan.total
     return {name: values[:, i] for i, name in enumerate(scan.level_names)}
 
 
-def build_cascade(input_enzyme_total: float, levels: Sequence[dict[str, Any]], title: str = "", notes: str = "") -> Cascade:
+def build_cascade(
+    input_enzyme_total: float, levels: Sequence[dict[str, Any]], title: str = "", notes: str = ""
+) -> Cascade:
     """Build a `Cascade` from plain dicts shaped like the cascade file's ``levels`` entries."""
     built = []
     for level in levels:

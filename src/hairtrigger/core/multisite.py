@@ -25,7 +25,6 @@ With first-order enzymes the fully modified fraction is ``uⁿ(u − 1)/(u^(n+1)
 
 from __future__ import annotations
 
-import math
 import numbers
 from dataclasses import dataclass
 from typing import Final
@@ -135,8 +134,12 @@ class MultisiteCycle:
     def as_cascade(self, name: str = "substrate") -> Cascade:
         """The same cycle as a one-level cascade whose input enzyme is the kinase."""
         level = CascadeLevel(
-            name, self.sites, self.substrate_total, self.phosphatase_total,
-            self.kinase, self.phosphatase,
+            name,
+            self.sites,
+            self.substrate_total,
+            self.phosphatase_total,
+            self.kinase,
+            self.phosphatase,
         )
         return Cascade(self.kinase_total, (level,))
 
@@ -272,7 +275,9 @@ def multisite_plateau(cycle: MultisiteCycle, model: str = "mass_action") -> dict
     return {"free": float(state["free"]), "total": float(state["total"])}
 
 
-def _first_crossing(values: FloatArray, targets: FloatArray) -> tuple[NDArray[np.intp], NDArray[np.bool_], NDArray[np.bool_]]:
+def _first_crossing(
+    values: FloatArray, targets: FloatArray
+) -> tuple[NDArray[np.intp], NDArray[np.bool_], NDArray[np.bool_]]:
     """Index k of the first grid interval [k, k + 1] where values cross up through target.
 
     `values` (P, G) along the grid, `targets` (P,). Returns k, found, and whether the values
@@ -287,7 +292,9 @@ def _first_crossing(values: FloatArray, targets: FloatArray) -> tuple[NDArray[np
     return k, found, several
 
 
-def _refine(func, lo: FloatArray, hi: FloatArray, targets: FloatArray, iterations: int = 200) -> FloatArray:  # noqa: ANN001
+def _refine(
+    func, lo: FloatArray, hi: FloatArray, targets: FloatArray, iterations: int = 200
+) -> FloatArray:  # noqa: ANN001
     """Bisection for func(x) = target with func increasing on each bracket [lo, hi]."""
     for _ in range(iterations):
         mid = 0.5 * (lo + hi)
@@ -437,8 +444,11 @@ def multisite_response(cycle: MultisiteCycle, model: str = "mass_action") -> Mul
         with np.errstate(divide="ignore", invalid="ignore"):
             hill = LN81 / np.log(ecs[2] / ecs[0])
         results[definition] = OutputSteepness(
-            ec10=float(ecs[0]), ec50=float(ecs[1]), ec90=float(ecs[2]),
-            hill_coefficient=float(hill), plateau=top,
+            ec10=float(ecs[0]),
+            ec50=float(ecs[1]),
+            ec90=float(ecs[2]),
+            hill_coefficient=float(hill),
+            plateau=top,
         )
     return MultisiteResponse(results["free"], results["total"], monotone, tuple(warnings))
 

@@ -85,7 +85,9 @@ class ReactionNetwork:
         object.__setattr__(self, "_first", np.asarray(first, dtype=np.intp))
         # The "no second reactant" slot points at an extra column of ones (index n).
         object.__setattr__(
-            self, "_second", np.asarray([n if s == NO_SPECIES else s for s in second], dtype=np.intp)
+            self,
+            "_second",
+            np.asarray([n if s == NO_SPECIES else s for s in second], dtype=np.intp),
         )
         object.__setattr__(self, "_constants", np.asarray(constants, dtype=float))
         object.__setattr__(self, "_stoichiometry", stoich)

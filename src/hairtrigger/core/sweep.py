@@ -27,7 +27,6 @@ from typing import Any, Final
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy.stats import qmc
 
 from .evaluate import EVALUATE_KEYS, THRESHOLD_KEYS, evaluate_arrays
 from .params import CYCLE_KEYS, MODELS, READOUTS, Cycle, check_choice
@@ -64,6 +63,7 @@ ProgressCallback = Callable[[int, int], None]
 
 
 # --- ranges and samples ---------------------------------------------------------------------
+
 
 @dataclass(frozen=True)
 class ParameterRange:
@@ -114,7 +114,9 @@ class ParameterRange:
             msg = f"range {text!r} must look like KEY=LOW:HIGH or KEY=LOW:HIGH:log"
             raise ValueError(msg)
         if key not in CYCLE_KEYS:
-            msg = f"range {text!r}: unknown cycle parameter `{key}` (known: {', '.join(CYCLE_KEYS)})"
+            msg = (
+                f"range {text!r}: unknown cycle parameter `{key}` (known: {', '.join(CYCLE_KEYS)})"
+            )
             raise ValueError(msg)
         parts = spec.split(":")
         if len(parts) not in (2, 3) or (len(parts) == 3 and parts[2] not in ("log", "lin")):
@@ -164,6 +166,8 @@ def unit_sample(dimension: int, samples: int, design: str = "sobol", seed: int =
     samples = _check_count("samples", samples)
     check_choice("design", design, SAMPLING_DESIGNS)
     seed = _check_seed(seed)
+    from scipy.stats import qmc  # scipy.stats is slow to import; only sweeps need it
+
     if design == "sobol":
         engine = qmc.Sobol(dimension, scramble=True, rng=np.random.default_rng(seed))
         points = engine.random_base2(max(0, math.ceil(math.log2(samples))))[:samples]
@@ -196,6 +200,7 @@ def sample_ranges(
 
 # --- evaluation -------------------------------------------------------------------------------
 
+
 def relaxation_half_time(params: Mapping[str, ArrayLike]) -> FloatArray:
     """ln 2 / λ, λ the linear relaxation rate of the quasi-steady cycle at its steady state.
 
@@ -205,7 +210,9 @@ def relaxation_half_time(params: Mapping[str, ArrayLike]) -> FloatArray:
     the steady state, not the zero-order transit after a large step.
     """
     w = np.asarray(params["substrate_total"], dtype=float)
-    v1 = np.asarray(params["kinase_kcat"], dtype=float) * np.asarray(params["kinase_total"], dtype=float)
+    v1 = np.asarray(params["kinase_kcat"], dtype=float) * np.asarray(
+        params["kinase_total"], dtype=float
+    )
     v2 = np.asarray(params["phosphatase_kcat"], dtype=float) * np.asarray(
         params["phosphatase_total"], dtype=float
     )
@@ -278,7 +285,10 @@ def _resolve_client(client: Any) -> tuple[Any, bool]:
         except (OSError, TimeoutError) as exc:
             msg = f"cannot reach the Dask scheduler at {client!r}: {exc}"
             raise ValueError(msg) from exc
-    msg = f"`client` must be None, a distributed.Client or a scheduler address; got {type(client).__name__}"
+    msg = (
+        "`client` must be None, a distributed.Client or a scheduler address; "
+        f"got {type(client).__name__}"
+    )
     raise ValueError(msg)
 
 
@@ -453,6 +463,7 @@ def run_sweep(
 
 # --- Sobol' indices ---------------------------------------------------------------------------
 
+
 @dataclass(frozen=True)
 class SobolIndices:
     """First-order and total Sobol' indices of one output, with bootstrap intervals.
@@ -488,6 +499,7 @@ class SobolIndices:
 
     def as_dict(self) -> dict[str, Any]:
         """JSON-ready mapping: per input, first/total with intervals."""
+
         def number(x: Any) -> float | None:
             value = float(x)
             return value if math.isfinite(value) else None
@@ -594,8 +606,18 @@ def sobol_indices_from_values(
     if m < 2 or np.var(np.concatenate([blocks[0], blocks[1]])) == 0.0:
         warnings.append("too few valid rows or a constant output: indices undefined")
         interval = np.full((d, 2), np.nan)
-        return SobolIndices(labels, nan_d, nan_d.copy(), interval, interval.copy(), math.nan, m,
-                            f.size, float(confidence), tuple(warnings))
+        return SobolIndices(
+            labels,
+            nan_d,
+            nan_d.copy(),
+            interval,
+            interval.copy(),
+            math.nan,
+            m,
+            f.size,
+            float(confidence),
+            tuple(warnings),
+        )
     f_a, f_b, f_ab = blocks[0], blocks[1], blocks[2:]
     first, total = _indices(f_a, f_b, f_ab)
     variance = float(np.var(np.concatenate([f_a, f_b])))
@@ -617,8 +639,18 @@ def sobol_indices_from_values(
         q = [100.0 * alpha, 100.0 * (1.0 - alpha)]
         first_iv = np.percentile(np.concatenate(firsts), q, axis=0).T
         total_iv = np.percentile(np.concatenate(totals), q, axis=0).T
-    return SobolIndices(labels, first, total, first_iv, total_iv, variance, m, f.size,
-                        float(confidence), tuple(warnings))
+    return SobolIndices(
+        labels,
+        first,
+        total,
+        first_iv,
+        total_iv,
+        variance,
+        m,
+        f.size,
+        float(confidence),
+        tuple(warnings),
+    )
 
 
 def sobol_indices(

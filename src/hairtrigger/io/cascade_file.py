@@ -62,10 +62,21 @@ MAX_CASCADE_BYTES: Final[int] = 1 << 20
 CASCADE_EXAMPLES_DIR: Final[Path] = Path(__file__).resolve().parent.parent / "examples" / "cascades"
 
 _TOP_KEYS: Final[tuple[str, ...]] = (
-    "format", "version", "title", "notes", "units", "input_enzyme_total", "levels",
+    "format",
+    "version",
+    "title",
+    "notes",
+    "units",
+    "input_enzyme_total",
+    "levels",
 )
 _LEVEL_KEYS: Final[tuple[str, ...]] = (
-    "name", "sites", "substrate_total", "phosphatase_total", "kinase", "phosphatase",
+    "name",
+    "sites",
+    "substrate_total",
+    "phosphatase_total",
+    "kinase",
+    "phosphatase",
 )
 _ENZYME_KEYS: Final[tuple[str, ...]] = ("kon", "koff", "kcat")
 _ENZYME_UNITS: Final[dict[str, str]] = {"kon": "1/(uM*s)", "koff": "1/s", "kcat": "1/s"}
@@ -144,7 +155,9 @@ def _enzyme(field: str, value: Any) -> EnzymeConstants:
     block = _object(field, value, _ENZYME_KEYS)
     numbers_ = {
         key: _number(
-            f"{field}.{key}", _require(block, key, f"{field}.{key}"), _ENZYME_UNITS[key],
+            f"{field}.{key}",
+            _require(block, key, f"{field}.{key}"),
+            _ENZYME_UNITS[key],
             allow_zero=key == "koff",
         )
         for key in _ENZYME_KEYS
@@ -158,13 +171,23 @@ def _level(field: str, value: Any, seen: set[str]) -> CascadeLevel:
     if not isinstance(name, str) or not name.strip():
         _fail(f"{field}.name", f"must be a non-empty string; got {_describe(name)}")
     if name in seen:
-        _fail(f"{field}.name", f"{json.dumps(name)} is used by an earlier level; names must be unique")
+        _fail(
+            f"{field}.name", f"{json.dumps(name)} is used by an earlier level; names must be unique"
+        )
     seen.add(name)
     sites = _require(block, "sites", f"{field}.sites")
-    if isinstance(sites, bool) or not isinstance(sites, numbers.Integral) or sites not in FILE_SITES:
-        _fail(f"{field}.sites", f"must be 1 or 2 (sites modified in sequence); got {_describe(sites)}")
+    if (
+        isinstance(sites, bool)
+        or not isinstance(sites, numbers.Integral)
+        or sites not in FILE_SITES
+    ):
+        _fail(
+            f"{field}.sites", f"must be 1 or 2 (sites modified in sequence); got {_describe(sites)}"
+        )
     substrate = _number(
-        f"{field}.substrate_total", _require(block, "substrate_total", f"{field}.substrate_total"), "uM"
+        f"{field}.substrate_total",
+        _require(block, "substrate_total", f"{field}.substrate_total"),
+        "uM",
     )
     phosphatase = _number(
         f"{field}.phosphatase_total",
@@ -188,13 +211,22 @@ def cascade_from_dict(document: Any) -> Cascade:
         _fail(None, f"a cascade file must hold a JSON object; got {_describe(document)}")
     fmt = _require(document, "format", "format")
     if fmt != CASCADE_FORMAT:
-        hint = " (this is a snapshot; the cascade command needs a cascade file)" if fmt == "hairtrigger.snapshot" else ""
+        hint = (
+            " (this is a snapshot; the cascade command needs a cascade file)"
+            if fmt == "hairtrigger.snapshot"
+            else ""
+        )
         _fail("format", f"must be {json.dumps(CASCADE_FORMAT)}; got {_describe(fmt)}{hint}")
     version = _require(document, "version", "version")
     if isinstance(version, bool) or not isinstance(version, numbers.Integral):
         _fail("version", f"must be a whole number; got {_describe(version)}")
+    version = int(version)
     if version > CASCADE_VERSION:
-        _fail("version", f"is {version}, written by a newer hairtrigger (this one reads {CASCADE_VERSION}); upgrade hairtrigger")
+        _fail(
+            "version",
+            f"is {version}, written by a newer hairtrigger (this one reads "
+            f"{CASCADE_VERSION}); upgrade hairtrigger",
+        )
     if version < 1:
         _fail("version", f"must be {CASCADE_VERSION}; got {version}")
     _object("", document, _TOP_KEYS)
@@ -209,8 +241,16 @@ def cascade_from_dict(document: Any) -> Cascade:
         for key, unit in _UNITS.items():
             got = _require(units, key, f"units.{key}")
             if got != unit:
-                _fail(f"units.{key}", f"must be {json.dumps(unit)}; got {_describe(got)} (convert the values)")
-    total = _number("input_enzyme_total", _require(document, "input_enzyme_total", "input_enzyme_total"), "uM", allow_zero=True)
+                _fail(
+                    f"units.{key}",
+                    f"must be {json.dumps(unit)}; got {_describe(got)} (convert the values)",
+                )
+    total = _number(
+        "input_enzyme_total",
+        _require(document, "input_enzyme_total", "input_enzyme_total"),
+        "uM",
+        allow_zero=True,
+    )
     levels = _require(document, "levels", "levels")
     if not isinstance(levels, list) or not levels:
         _fail("levels", f"must be a non-empty list of levels; got {_describe(levels)}")
@@ -275,7 +315,9 @@ def loads_cascade(text: str | bytes, source: str | None = None) -> Cascade:
 
 def dumps_cascade(cascade: Cascade) -> str:
     """The file text of `cascade` (floats round-trip exactly; no NaN)."""
-    return json.dumps(cascade_to_dict(cascade), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return (
+        json.dumps(cascade_to_dict(cascade), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    )
 
 
 def load_cascade(path: str | os.PathLike[str]) -> Cascade:
@@ -295,7 +337,9 @@ def load_cascade(path: str | os.PathLike[str]) -> Cascade:
     with open(file, "rb") as handle:
         data = handle.read(MAX_CASCADE_BYTES + 1)
     if len(data) > MAX_CASCADE_BYTES:
-        raise CascadeFileError(None, f"is larger than {MAX_CASCADE_BYTES} bytes; not a cascade file", str(file))
+        raise CascadeFileError(
+            None, f"is larger than {MAX_CASCADE_BYTES} bytes; not a cascade file", str(file)
+        )
     return loads_cascade(data, source=str(file))
 
 
