@@ -25,6 +25,8 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
     "sbml",
     "noise",
     "fit",
+    "cascade",
+    "sweep",
     "explore",
 )
 
