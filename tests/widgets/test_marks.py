@@ -6,9 +6,9 @@ import math
 
 import numpy as np
 import pytest
+from hairtrigger.core.timecourse import time_course
 
 from hairtrigger.core import readout_ceiling, steady_state, steepness_map, thresholds
-from hairtrigger.core.timecourse import time_course
 from hairtrigger.widgets import Explorer
 from hairtrigger.widgets.state import cycle_arrays
 
@@ -28,10 +28,13 @@ def _move(explorer: Explorer, name: str, value: float) -> None:
 
 
 @pytest.mark.parametrize("model", ["quasi_steady", "mass_action"])
-@pytest.mark.parametrize("slider, value", [("activity_ratio", 1.3), ("K1", 0.02),
-                                           ("phosphatase_ratio", 0.1), ("K2", 0.5)])
-def test_every_mark_equals_the_core(explorer: Explorer, model: str, slider: str,
-                                    value: float) -> None:
+@pytest.mark.parametrize(
+    "slider, value",
+    [("activity_ratio", 1.3), ("K1", 0.02), ("phosphatase_ratio", 0.1), ("K2", 0.5)],
+)
+def test_every_mark_equals_the_core(
+    explorer: Explorer, model: str, slider: str, value: float
+) -> None:
     state = explorer.state
     state.model = model
     _move(explorer, slider, value)
@@ -46,8 +49,9 @@ def test_every_mark_equals_the_core(explorer: Explorer, model: str, slider: str,
     params_r = dict(params, kinase_total=r * cycle.phosphatase_vmax / cycle.kinase_kcat)
     ss = steady_state(params_r, model)
     np.testing.assert_allclose(curve.readout_line.y, ss.readout(readout), rtol=1e-12)
-    np.testing.assert_allclose(curve.unmodified_line.y, ss.unmodified_readout(readout),
-                               rtol=1e-12, atol=1e-300)
+    np.testing.assert_allclose(
+        curve.unmodified_line.y, ss.unmodified_readout(readout), rtol=1e-12, atol=1e-300
+    )
     if model == "mass_action":
         assert curve.quasi_line.visible
         quasi = steady_state(params_r, "quasi_steady").readout(readout)
@@ -61,8 +65,11 @@ def test_every_mark_equals_the_core(explorer: Explorer, model: str, slider: str,
     ceiling = float(readout_ceiling(params, model, readout))
     np.testing.assert_allclose(curve.ceiling_line.y, [ceiling, ceiling], rtol=1e-13)
     th = thresholds(params, model, readout)
-    expected = [(float(th[f"activity_ratio_{p}"]), p / 100) for p in (10, 50, 90)
-                if math.isfinite(float(th[f"activity_ratio_{p}"]))]
+    expected = [
+        (float(th[f"activity_ratio_{p}"]), p / 100)
+        for p in (10, 50, 90)
+        if math.isfinite(float(th[f"activity_ratio_{p}"]))
+    ]
     if expected:
         np.testing.assert_allclose(curve.thresholds.x, [x for x, _ in expected], rtol=1e-12)
         np.testing.assert_allclose(curve.thresholds.y, [y for _, y in expected], rtol=1e-12)
@@ -84,12 +91,19 @@ def test_every_mark_equals_the_core(explorer: Explorer, model: str, slider: str,
     # Time course: the core's course for this step, drawn as fractions of W.
     course = state.time_course
     after = cycle.with_activity_ratio(state.step_activity_ratio)
-    reference = time_course(cycle, {"kinase_total": after.kinase_total}, float(course.t[-1]),
-                            len(course.t), model=model, readout=readout)
+    reference = time_course(
+        cycle,
+        {"kinase_total": after.kinase_total},
+        float(course.t[-1]),
+        len(course.t),
+        model=model,
+        readout=readout,
+    )
     panel = explorer.time_course
     np.testing.assert_allclose(panel.readout_line.y, reference["readout"], rtol=1e-12)
-    np.testing.assert_allclose(panel.species_lines.y[1],
-                               reference["modified"] / cycle.substrate_total, rtol=1e-12)
+    np.testing.assert_allclose(
+        panel.species_lines.y[1], reference["modified"] / cycle.substrate_total, rtol=1e-12
+    )
     np.testing.assert_allclose(panel.readout_line.x, reference["t"], rtol=1e-15)
     if course.half_time is not None:
         assert panel.half_time_marker.visible
@@ -126,9 +140,11 @@ def test_pinned_curves_are_drawn(explorer: Explorer) -> None:
     r = np.asarray(curve.pinned_lines.x[0])
     c = pinned.cycle
     params = dict(cycle_arrays(c), kinase_total=r * c.phosphatase_vmax / c.kinase_kcat)
-    np.testing.assert_allclose(curve.pinned_lines.y[0],
-                               steady_state(params, pinned.model).readout(pinned.readout),
-                               rtol=1e-12)
+    np.testing.assert_allclose(
+        curve.pinned_lines.y[0],
+        steady_state(params, pinned.model).readout(pinned.readout),
+        rtol=1e-12,
+    )
     assert "pinned" in curve.legend.value
 
 
@@ -140,16 +156,18 @@ def test_relative_basis_moves_the_markers(explorer: Explorer) -> None:
     explorer.curve.basis.value = "relative"
     assert state.threshold_basis == "relative"
     ceiling = state.results["readout_ceiling"]
-    np.testing.assert_allclose(explorer.curve.thresholds.y, [0.1 * ceiling, 0.5 * ceiling,
-                                                             0.9 * ceiling])
-    np.testing.assert_allclose(explorer.curve.thresholds.x,
-                               [state.results["relative"][f"activity_ratio_{p}"]
-                                for p in (10, 50, 90)])
+    np.testing.assert_allclose(
+        explorer.curve.thresholds.y, [0.1 * ceiling, 0.5 * ceiling, 0.9 * ceiling]
+    )
+    np.testing.assert_allclose(
+        explorer.curve.thresholds.x,
+        [state.results["relative"][f"activity_ratio_{p}"] for p in (10, 50, 90)],
+    )
 
 
 def test_window_choices(explorer: Explorer) -> None:
     curve = explorer.curve
-    curve.span.value = "whole range"
+    curve.span.value = "whole r range"
     assert (curve.x_scale.min, curve.x_scale.max) == (1e-3, 1e3)
     curve.span.value = "1 decade"
     ec50 = explorer.state.results["activity_ratio_50"]

@@ -32,7 +32,9 @@ _CSS: Final[str] = """
 .hairtrigger-explorer .widget-html-content { line-height: 1.35; }
 .hairtrigger-explorer .hairtrigger-message .widget-html-content { font-size: 85%; }
 .hairtrigger-explorer .jupyter-widgets:focus-visible,
-.hairtrigger-explorer .noUi-handle:focus-visible { outline: 2px solid #0072B2; outline-offset: 1px; }
+.hairtrigger-explorer .noUi-handle:focus-visible {
+  outline: 2px solid #0072B2; outline-offset: 1px;
+}
 </style>
 """
 
@@ -78,24 +80,33 @@ class Explorer(w.VBox):
         self.curve = ResponseCurvePanel(state, width="460px", height="290px")
         self.time_course = TimeCoursePanel(state, width="460px", height="240px")
         self.steepness = SteepnessMapPanel(state, width="330px", height="330px")
-        self.table = ReadoutTable(state, width="430px")
+        self.table = ReadoutTable(state, width="410px")
         self.snapshots = SnapshotPanel(state)
         left = w.VBox(
             [self.controls],
-            layout=w.Layout(width="345px", min_width="345px", max_height="740px",
-                            overflow="auto", padding="0 6px 0 0"),
+            layout=w.Layout(
+                width="345px",
+                min_width="345px",
+                max_height="740px",
+                overflow="auto",
+                padding="0 6px 0 0",
+            ),
         )
-        right_tabs = w.Tab(children=[self.table, self.snapshots],
-                           layout=w.Layout(width="445px"))
+        right_tabs = w.Tab(children=[self.table, self.snapshots], layout=w.Layout(width="445px"))
         right_tabs.set_title(0, "Readout")
         right_tabs.set_title(1, "Snapshots")
         middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="470px"))
         right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="450px"))
         header = w.HBox(
-            [w.HTML(f"{_CSS}<b style='font-size:120%'>{APP_NAME}</b> "
+            [
+                w.HTML(
+                    f"{_CSS}<b style='font-size:120%'>{APP_NAME}</b> "
                     "<span style='color:#4d4d4d'>covalent-modification switch explorer — "
-                    "predictions need experimental confirmation</span>"),
-             self.busy, self.message],
+                    "predictions need experimental confirmation</span>"
+                ),
+                self.busy,
+                self.message,
+            ],
             layout=w.Layout(align_items="center", justify_content="flex-start"),
         )
         super().__init__(

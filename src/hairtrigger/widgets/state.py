@@ -37,7 +37,16 @@ from traitlets import (
     observe,
 )
 
-from ..core import CYCLE_KEYS, MAP_MEASURES, MODELS, READOUTS, Cycle, SteadyState, evaluate, steady_state
+from ..core import (
+    CYCLE_KEYS,
+    MAP_MEASURES,
+    MODELS,
+    READOUTS,
+    Cycle,
+    SteadyState,
+    evaluate,
+    steady_state,
+)
 
 #: Model names as shown to users.
 MODEL_LABELS: Final[dict[str, str]] = {
@@ -120,21 +129,54 @@ def _check_bounded(name: str, value: Any, low: float, high: float, unit: str) ->
 
 #: The explorer's parameters, in the order the controls show them.
 PARAMETERS: Final[tuple[ParameterSpec, ...]] = (
-    ParameterSpec("activity_ratio", "r = V1/V2", "activity ratio, kinase over phosphatase "
-                  "maximal rate (the input; set through the kinase amount)", "", 1e-3, 1e3, 1.0),
-    ParameterSpec("K1", "K1 = M1/W", "kinase Michaelis constant over total substrate", "",
-                  1e-4, 1e2, 0.05),
-    ParameterSpec("K2", "K2 = M2/W", "phosphatase Michaelis constant over total substrate", "",
-                  1e-4, 1e2, 0.05),
-    ParameterSpec("phosphatase_ratio", "E2/W", "total phosphatase over total substrate", "",
-                  1e-4, 1e1, 0.02),
+    ParameterSpec(
+        "activity_ratio",
+        "r = V1/V2",
+        "activity ratio, kinase over phosphatase "
+        "maximal rate (the input; set through the kinase amount)",
+        "",
+        1e-3,
+        1e3,
+        1.0,
+    ),
+    ParameterSpec(
+        "K1", "K1 = M1/W", "kinase Michaelis constant over total substrate", "", 1e-4, 1e2, 0.05
+    ),
+    ParameterSpec(
+        "K2",
+        "K2 = M2/W",
+        "phosphatase Michaelis constant over total substrate",
+        "",
+        1e-4,
+        1e2,
+        0.05,
+    ),
+    ParameterSpec(
+        "phosphatase_ratio", "E2/W", "total phosphatase over total substrate", "", 1e-4, 1e1, 0.02
+    ),
     ParameterSpec("substrate_total", "W", "total substrate", "µM", 1e-3, 1e3, 1.0),
     ParameterSpec("kinase_kcat", "k1", "kinase turnover number", "1/s", 1e-3, 1e3, 10.0),
     ParameterSpec("phosphatase_kcat", "k2", "phosphatase turnover number", "1/s", 1e-3, 1e3, 10.0),
-    ParameterSpec("kinase_kon", "a1", "kinase–substrate binding rate constant", "1/(µM·s)",
-                  1e-1, 1e5, 1000.0, mass_action_only=True),
-    ParameterSpec("phosphatase_kon", "a2", "phosphatase–substrate binding rate constant",
-                  "1/(µM·s)", 1e-1, 1e5, 1000.0, mass_action_only=True),
+    ParameterSpec(
+        "kinase_kon",
+        "a1",
+        "kinase–substrate binding rate constant",
+        "1/(µM·s)",
+        1e-1,
+        1e5,
+        1000.0,
+        mass_action_only=True,
+    ),
+    ParameterSpec(
+        "phosphatase_kon",
+        "a2",
+        "phosphatase–substrate binding rate constant",
+        "1/(µM·s)",
+        1e-1,
+        1e5,
+        1000.0,
+        mass_action_only=True,
+    ),
 )
 
 #: Specs by trait name.
@@ -142,13 +184,24 @@ PARAMETER_SPECS: Final[dict[str, ParameterSpec]] = {spec.name: spec for spec in 
 
 #: The time-course target (activity ratio after the step) has the activity ratio's bounds.
 STEP_SPEC: Final[ParameterSpec] = ParameterSpec(
-    "step_activity_ratio", "r after step", "activity ratio after the step at t = 0 (the kinase "
-    "amount changes)", "", 1e-3, 1e3, 1.5,
+    "step_activity_ratio",
+    "r after step",
+    "activity ratio after the step at t = 0 (the kinase amount changes)",
+    "",
+    1e-3,
+    1e3,
+    1.5,
 )
 
 #: The steepness level outlined on the map (in the units of the measure shown).
 TARGET_SPEC: Final[ParameterSpec] = ParameterSpec(
-    "map_target", "outline at", "steepness level outlined on the map", "", 1e-3, 1e6, 4.0,
+    "map_target",
+    "outline at",
+    "steepness level outlined on the map",
+    "",
+    1e-3,
+    1e6,
+    4.0,
 )
 
 #: The kinase-to-substrate ratio, derived from the activity ratio (see `kinase_ratio`).
@@ -176,8 +229,13 @@ class BoundedFloat(TraitType[float, Any]):
 
 def _param(spec: ParameterSpec) -> BoundedFloat:
     return BoundedFloat(spec).tag(
-        param=True, unit=spec.unit, symbol=spec.symbol, low=spec.low, high=spec.high,
-        scale="log", mass_action_only=spec.mass_action_only,
+        param=True,
+        unit=spec.unit,
+        symbol=spec.symbol,
+        low=spec.low,
+        high=spec.high,
+        scale="log",
+        mass_action_only=spec.mass_action_only,
     )
 
 
@@ -260,14 +318,17 @@ class ExplorerState(HasTraits):
     # View settings (saved with snapshots under "view").
     step_activity_ratio = BoundedFloat(STEP_SPEC).tag(view=True, unit="", scale="log")
     threshold_basis = Enum(
-        THRESHOLD_BASES, default_value="absolute",
+        THRESHOLD_BASES,
+        default_value="absolute",
         help="EC markers as fractions of total substrate (absolute) or of the ceiling (relative)",
     ).tag(view=True)
-    map_measure = Enum(MAP_MEASURES, default_value="hill_coefficient",
-                       help="steepness measure drawn on the map").tag(view=True)
+    map_measure = Enum(
+        MAP_MEASURES, default_value="hill_coefficient", help="steepness measure drawn on the map"
+    ).tag(view=True)
     map_target = BoundedFloat(TARGET_SPEC).tag(view=True, unit="")
-    map_resolution = Enum(MAP_RESOLUTIONS, default_value=128,
-                          help="map cells per side").tag(view=True)
+    map_resolution = Enum(MAP_RESOLUTIONS, default_value=128, help="map cells per side").tag(
+        view=True
+    )
 
     title = Unicode("", help="snapshot title")
     notes = Unicode("", help="snapshot notes")
@@ -276,8 +337,12 @@ class ExplorerState(HasTraits):
     # Derived (read-only from outside; set by `recompute`).
     cycle = Instance(Cycle, read_only=True, allow_none=True, help="the cycle in core units")
     results = Dict(read_only=True, help="`hairtrigger evaluate` results at the current point")
-    time_course = Instance(TimeCourseView, read_only=True, allow_none=True,
-                           help="step response from the current to the step activity ratio")
+    time_course = Instance(
+        TimeCourseView,
+        read_only=True,
+        allow_none=True,
+        help="step response from the current to the step activity ratio",
+    )
     problem = Unicode("", read_only=True, help="why the last recompute failed ('' if it did not)")
     revision = Int(0, read_only=True, help="incremented after every recompute")
 
@@ -434,8 +499,9 @@ class ExplorerState(HasTraits):
             with self.progress("results"):
                 cycle = self.to_cycle()
                 results = evaluate(cycle, self.model, self.readout)
-                course = compute_time_course(cycle, self.model, self.readout,
-                                             self.step_activity_ratio)
+                course = compute_time_course(
+                    cycle, self.model, self.readout, self.step_activity_ratio
+                )
             problem = ""
         except Exception as exc:  # noqa: BLE001 - a failed recompute is reported, not raised
             cycle, results, course = self.cycle, dict(self.results), self.time_course
@@ -447,7 +513,6 @@ class ExplorerState(HasTraits):
             self.set_trait("problem", problem)
             self.last_recompute_seconds = time.perf_counter() - start
             self.set_trait("revision", self.revision + 1)
-
 
     # --- snapshots --------------------------------------------------------------------------
     def view_settings(self) -> dict[str, Any]:
@@ -467,8 +532,15 @@ class ExplorerState(HasTraits):
         if self.pinned:
             extras["pinned"] = [snapshot_to_dict(p.replace(extras={})) for p in self.pinned]
         options: dict[str, Any] = {} if created is None else {"created": created}
-        return Snapshot(self.to_cycle(), self.model, self.readout, self.title, self.notes,
-                        extras=extras, **options)
+        return Snapshot(
+            self.to_cycle(),
+            self.model,
+            self.readout,
+            self.title,
+            self.notes,
+            extras=extras,
+            **options,
+        )
 
     def check_snapshot(self, snapshot: Any) -> tuple[dict[str, Any], tuple[Any, ...], list[str]]:
         """Validate a snapshot for this explorer without changing anything.
@@ -494,8 +566,12 @@ class ExplorerState(HasTraits):
             msg = f"`snapshot` must be a hairtrigger Snapshot; got {type(snapshot).__name__}"
             raise TypeError(msg)
         settings: dict[str, Any] = dict(self.check_cycle(snapshot.cycle))
-        settings.update(model=snapshot.model, readout=snapshot.readout, title=snapshot.title,
-                        notes=snapshot.notes)
+        settings.update(
+            model=snapshot.model,
+            readout=snapshot.readout,
+            title=snapshot.title,
+            notes=snapshot.notes,
+        )
         remarks: list[str] = []
         view = snapshot.extras.get("view", {})
         if not isinstance(view, Mapping):
@@ -600,11 +676,62 @@ def compute_time_course(
 
     The kinase amount steps at t = 0 (``hairtrigger.core.timecourse.time_course``); the window
     is chosen to cover the transit and the settling, and doubled while the end is still more
-    than 1 % of the change away from the new steady state.
+    than 1 % of the change away from the new steady state. A step the core refuses (in the
+    mass-action model, binding rates too small for the Michaelis constants) gives a course
+    with ``success=False`` and a message saying what to change.
     """
     from ..core.timecourse import time_course
 
     after = cycle.with_activity_ratio(ratio_after)
+    if model == "mass_action":
+        for who, symbol, kcat, km, kon in (
+            ("kinase", "a1", cycle.kinase_kcat, cycle.kinase_km, cycle.kinase_kon),
+            (
+                "phosphatase",
+                "a2",
+                cycle.phosphatase_kcat,
+                cycle.phosphatase_km,
+                cycle.phosphatase_kon,
+            ),
+        ):
+            if kon * km < kcat:
+                message = (
+                    f"the mass-action time course needs {symbol} >= k/M = {kcat / km:.4g} "
+                    f"1/(µM·s) for the {who} (dissociation rate a·M − k = {kon * km - kcat:.3g}"
+                    f"/s is negative); raise {symbol} or the {who} Km"
+                )
+                return _failed_course(cycle, ratio_after, message)
+    try:
+        return _step_response(cycle, after, model, readout, ratio_after, time_course)
+    except ValueError as exc:  # the core refused the step: data for the panel, not a crash
+        return _failed_course(cycle, ratio_after, str(exc))
+
+
+def _failed_course(cycle: Cycle, ratio_after: float, message: str) -> TimeCourseView:
+    empty = np.zeros(0)
+    species = {
+        k: empty for k in ("unmodified", "modified", "kinase_complex", "phosphatase_complex")
+    }
+    return TimeCourseView(
+        t=empty,
+        species=species,
+        readout=empty,
+        ratio_before=cycle.activity_ratio,
+        ratio_after=ratio_after,
+        success=False,
+        message=message,
+    )
+
+
+def _step_response(
+    cycle: Cycle,
+    after: Cycle,
+    model: str,
+    readout: str,
+    ratio_after: float,
+    time_course: Callable[..., Any],
+) -> TimeCourseView:
+    """Run the step in the core and reduce it to what the panels show."""
     before_state = steady_state(cycle_arrays(cycle), model)
     after_state = steady_state(cycle_arrays(after), model)
     target = float(after_state.readout(readout))
@@ -633,13 +760,17 @@ def compute_time_course(
         y_star = target
         k1, k2 = after.K1, after.K2
         w = after.substrate_total
-        rate = (after.kinase_vmax * k1 / (k1 + 1.0 - y_star) ** 2
-                + after.phosphatase_vmax * k2 / (k2 + y_star) ** 2) / w
+        rate = (
+            after.kinase_vmax * k1 / (k1 + 1.0 - y_star) ** 2
+            + after.phosphatase_vmax * k2 / (k2 + y_star) ** 2
+        ) / w
         relaxation = 1.0 / rate
     return TimeCourseView(
         t=t,
-        species={key: np.asarray(course[key], dtype=float) for key in
-                 ("unmodified", "modified", "kinase_complex", "phosphatase_complex")},
+        species={
+            key: np.asarray(course[key], dtype=float)
+            for key in ("unmodified", "modified", "kinase_complex", "phosphatase_complex")
+        },
         readout=y,
         ratio_before=cycle.activity_ratio,
         ratio_after=ratio_after,
