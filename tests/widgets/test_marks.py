@@ -174,3 +174,26 @@ def test_window_choices(explorer: Explorer) -> None:
     assert math.log10(curve.x_scale.max / curve.x_scale.min) == pytest.approx(1.0)
     centre = math.sqrt(curve.x_scale.min * curve.x_scale.max)
     assert abs(math.log10(centre / ec50)) <= 1.0 / 40 + 1e-12  # centred to 1/20 of the window
+
+
+def test_switching_times_through_the_widgets_match_published_limits() -> None:
+    from hairtrigger.widgets import ExplorerState
+
+    # Zero-order limit: the readout crosses the range at the constant rate V1 - V2, so the
+    # 10 -> 90 % time is 0.8 W / (V1 - V2) [F] (REFERENCES.md, Dynamics).
+    state = ExplorerState(model="quasi_steady", K1=1e-4, K2=1e-4, activity_ratio=0.5,
+                          step_activity_ratio=2.0)
+    cycle = state.cycle
+    v2 = cycle.phosphatase_vmax
+    expected = 0.8 * cycle.substrate_total / (2.0 * v2 - v2)
+    assert state.time_course.switching_time == pytest.approx(expected, rel=2e-3)
+    # Linearised relaxation at the symmetric point (K1 = K2 = K, V1 = V2 = V):
+    # tau = W (K + 0.5)^2 / (2 V K) [F].
+    k = 0.2
+    with state.batch():
+        state.K1, state.K2 = k, k
+        state.activity_ratio, state.step_activity_ratio = 0.5, 1.0
+    tau = state.substrate_total * (k + 0.5) ** 2 / (2.0 * v2 * k)
+    assert state.time_course.relaxation_time == pytest.approx(tau, rel=1e-12)
+    panel_half = state.time_course.half_time
+    assert panel_half is not None and 0 < panel_half < state.time_course.t[-1]

@@ -43,9 +43,7 @@ from ..core import (
     MODELS,
     READOUTS,
     Cycle,
-    SteadyState,
     evaluate,
-    steady_state,
 )
 
 #: Model names as shown to users.
@@ -628,8 +626,8 @@ class ExplorerState(HasTraits):
 #: Samples per time course.
 COURSE_POINTS: Final[int] = 200
 
-#: Times the window may be doubled when the course has not settled by its end.
-MAX_WINDOW_EXTENSIONS: Final[int] = 4
+#: The drawn window extends this far past the 99 % settling time.
+WINDOW_PAST_SETTLING: Final[float] = 1.25
 
 
 def cycle_arrays(cycle: Cycle) -> dict[str, float]:
@@ -637,36 +635,8 @@ def cycle_arrays(cycle: Cycle) -> dict[str, float]:
     return {key: getattr(cycle, key) for key in CYCLE_KEYS}
 
 
-def _settling_window(before: SteadyState, after_state: SteadyState, after: Cycle) -> float:
-    """A time window that covers the transit and the final relaxation of a step (s).
-
-    The zero-order transit moves the substrate at a nearly constant net rate, so its duration
-    is about ΔB / (net rate just after the step); the approach to the end then takes a few
-    linear relaxation times. Both are estimated in the quasi-steady picture, which is enough
-    to choose a window (the course itself is exact or integrated).
-    """
-    b0, a0 = float(before.modified), float(before.unmodified)
-    b1, a1 = float(after_state.modified), float(after_state.unmodified)
-    v1, v2 = after.kinase_vmax, after.phosphatase_vmax
-    m1, m2 = after.kinase_km, after.phosphatase_km
-    net = v1 * a0 / (m1 + a0) - v2 * b0 / (m2 + b0)
-    rate = v1 * m1 / (m1 + a1) ** 2 + v2 * m2 / (m2 + b1) ** 2
-    tau = 1.0 / rate if rate > 0 else after.substrate_total / max(v1, v2)
-    transit = abs(b1 - b0) / abs(net) if net != 0 else 0.0
-    return max(1.2 * transit + 8.0 * tau, 1e-9)
-
-
-def _crossing_time(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
-    """First time the sampled course reaches `level` (linear interpolation), or None."""
-    reached = y >= level if rising else y <= level
-    if not reached.any():
-        return None
-    k = int(np.argmax(reached))
-    if k == 0:
-        return float(t[0])
-    y0, y1 = y[k - 1], y[k]
-    frac = (level - y0) / (y1 - y0) if y1 != y0 else 1.0
-    return float(t[k - 1] + frac * (t[k] - t[k - 1]))
+def _finite_or_none(value: float) -> float | None:
+    return float(value) if math.isfinite(value) else None
 
 
 def compute_time_course(
@@ -731,52 +701,41 @@ def _step_response(
     ratio_after: float,
     time_course: Callable[..., Any],
 ) -> TimeCourseView:
-    """Run the step in the core and reduce it to what the panels show."""
-    before_state = steady_state(cycle_arrays(cycle), model)
-    after_state = steady_state(cycle_arrays(after), model)
-    target = float(after_state.readout(readout))
-    start = float(before_state.readout(readout))
-    change = target - start
-    t_end = _settling_window(before_state, after_state, after)
+    """Run the step in the core and reduce it to what the panels show.
+
+    The switching times come from `hairtrigger.core.switching.switching_metrics` (exact for the
+    quasi-steady model); its 99 % settling time sets the drawn window, so the transit and the
+    final approach are both on screen.
+    """
+    from ..core.switching import relaxation_time, switching_metrics
+
     steps = {"kinase_total": after.kinase_total}
+    metrics = switching_metrics(cycle, steps, model, readout)
+    settling = metrics.settling_time
+    if metrics.direction != "none" and math.isfinite(settling) and settling > 0:
+        t_end = WINDOW_PAST_SETTLING * settling
+    else:
+        tau = float(relaxation_time(cycle_arrays(after), model))
+        t_end = 5.0 * tau if math.isfinite(tau) and tau > 0 else 1.0
     course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
-    for _ in range(MAX_WINDOW_EXTENSIONS):
-        end = course["readout"][-1]
-        if not course.success or not np.isfinite(end) or abs(end - target) <= 0.01 * abs(change):
-            break
-        t_end *= 2.0
-        course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
-    t = np.asarray(course["t"], dtype=float)
-    y = np.asarray(course["readout"], dtype=float)
-    rising = change > 0
-    half = switching = None
-    if abs(change) > 1e-12 * max(abs(start), abs(target), 1e-300) and course.success:
-        half = _crossing_time(t, y, start + 0.5 * change, rising)
-        t10 = _crossing_time(t, y, start + 0.1 * change, rising)
-        t90 = _crossing_time(t, y, start + 0.9 * change, rising)
-        switching = t90 - t10 if t10 is not None and t90 is not None else None
-    relaxation = None
-    if model == "quasi_steady":
-        y_star = target
-        k1, k2 = after.K1, after.K2
-        w = after.substrate_total
-        rate = (
-            after.kinase_vmax * k1 / (k1 + 1.0 - y_star) ** 2
-            + after.phosphatase_vmax * k2 / (k2 + y_star) ** 2
-        ) / w
-        relaxation = 1.0 / rate
+    message = (
+        course.message
+        if not course.success
+        else (metrics.message if not metrics.success or metrics.direction == "none" else "")
+    )
     return TimeCourseView(
-        t=t,
+        t=np.asarray(course["t"], dtype=float),
         species={
             key: np.asarray(course[key], dtype=float)
             for key in ("unmodified", "modified", "kinase_complex", "phosphatase_complex")
         },
-        readout=y,
+        readout=np.asarray(course["readout"], dtype=float),
         ratio_before=cycle.activity_ratio,
         ratio_after=ratio_after,
-        half_time=half,
-        relaxation_time=relaxation,
-        switching_time=switching,
-        success=bool(course.success),
-        message=str(course.message),
+        half_time=_finite_or_none(metrics.half_time),
+        relaxation_time=_finite_or_none(metrics.relaxation_time),
+        switching_time=_finite_or_none(metrics.time_10_90),
+        success=bool(course.success and metrics.success),
+        message=message,
+        extra={"settling_time": _finite_or_none(settling), "direction": metrics.direction},
     )
