@@ -6,9 +6,9 @@ import math
 
 import numpy as np
 import pytest
-from hairtrigger.core.timecourse import time_course
 
 from hairtrigger.core import readout_ceiling, steady_state, steepness_map, thresholds
+from hairtrigger.core.timecourse import time_course
 from hairtrigger.widgets import Explorer
 from hairtrigger.widgets.state import cycle_arrays
 
@@ -181,8 +181,9 @@ def test_switching_times_through_the_widgets_match_published_limits() -> None:
 
     # Zero-order limit: the readout crosses the range at the constant rate V1 - V2, so the
     # 10 -> 90 % time is 0.8 W / (V1 - V2) [F] (REFERENCES.md, Dynamics).
-    state = ExplorerState(model="quasi_steady", K1=1e-4, K2=1e-4, activity_ratio=0.5,
-                          step_activity_ratio=2.0)
+    state = ExplorerState(
+        model="quasi_steady", K1=1e-4, K2=1e-4, activity_ratio=0.5, step_activity_ratio=2.0
+    )
     cycle = state.cycle
     v2 = cycle.phosphatase_vmax
     expected = 0.8 * cycle.substrate_total / (2.0 * v2 - v2)

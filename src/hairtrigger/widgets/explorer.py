@@ -79,24 +79,24 @@ class Explorer(w.VBox):
         self.controls = ControlsPanel(state)
         self.curve = ResponseCurvePanel(state, width="460px", height="290px")
         self.time_course = TimeCoursePanel(state, width="460px", height="240px")
-        self.steepness = SteepnessMapPanel(state, width="330px", height="330px")
-        self.table = ReadoutTable(state, width="410px")
+        self.steepness = SteepnessMapPanel(state, width="320px", height="320px")
+        self.table = ReadoutTable(state, width="400px")
         self.snapshots = SnapshotPanel(state)
         left = w.VBox(
             [self.controls],
             layout=w.Layout(
-                width="345px",
-                min_width="345px",
+                width="330px",
+                min_width="330px",
                 max_height="740px",
                 overflow="auto",
                 padding="0 6px 0 0",
             ),
         )
-        right_tabs = w.Tab(children=[self.table, self.snapshots], layout=w.Layout(width="445px"))
+        right_tabs = w.Tab(children=[self.table, self.snapshots], layout=w.Layout(width="428px"))
         right_tabs.set_title(0, "Readout")
         right_tabs.set_title(1, "Snapshots")
-        middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="470px"))
-        right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="450px"))
+        middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
+        right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="435px"))
         header = w.HBox(
             [
                 w.HTML(
@@ -110,7 +110,15 @@ class Explorer(w.VBox):
             layout=w.Layout(align_items="center", justify_content="flex-start"),
         )
         super().__init__(
-            children=[header, w.HBox([left, middle, right], layout=w.Layout(width="1270px"))],
+            children=[
+                header,
+                w.HBox(
+                    [left, middle, right],
+                    # One row in a 1280-px window (Voila); narrower output areas (JupyterLab with a
+                    # side bar) wrap the map column below instead of scrolling sideways.
+                    layout=w.Layout(flex_flow="row wrap", max_width="1240px"),
+                ),
+            ],
         )
         self.add_class("hairtrigger-explorer")
 

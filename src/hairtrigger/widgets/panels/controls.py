@@ -86,7 +86,7 @@ class LogControl(w.VBox):
             description=label,
             tooltip=self.spec.description,
             style={"description_width": DESCRIPTION_WIDTH},
-            layout=w.Layout(width="250px"),
+            layout=w.Layout(width="240px"),
         )
         self.entry = w.Text(
             value=format_value(self.current()),
@@ -246,7 +246,7 @@ class ChoiceControl(w.VBox):
             description=description,
             tooltip=tooltip,
             style={"description_width": DESCRIPTION_WIDTH},
-            layout=w.Layout(width="330px"),
+            layout=w.Layout(width="318px"),
         )
         self.message = MessageLine()
         super().__init__(children=[self.dropdown, self.message], state=state)

@@ -94,10 +94,12 @@ class ResponseCurvePanel(w.VBox):
             y=empty,
             scales=scales,
             fill="inside",
-            colors=["#bbbbbb"],
+            # With fill="inside" bqplot applies `opacities` to the filled path as a whole, so
+            # the outline is hidden by a matching colour and width, not by opacity 0.
+            colors=["#9aa9b8"],
             fill_colors=["#9aa9b8"],
             fill_opacities=[0.3],
-            opacities=[0.0],
+            stroke_width=0.5,
             visible=False,
         )
         self.ceiling_line = bq.Lines(
@@ -192,13 +194,13 @@ class ResponseCurvePanel(w.VBox):
             options=[("of W", "absolute"), ("of ceiling", "relative")],
             value=state.threshold_basis,
             tooltip="EC markers and band as fractions of total substrate or of the ceiling",
-            style={"button_width": "76px"},
+            style={"button_width": "84px"},
         )
         self.legend = w.HTML()
         self.message = MessageLine()
         header = w.HBox(
             [
-                w.HTML("<b>Steady-state response</b>", layout=w.Layout(width="160px")),
+                w.HTML("<b>Steady-state response</b>", layout=w.Layout(width="140px")),
                 self.span,
                 self.basis,
             ],

@@ -281,16 +281,16 @@ class SteepnessMapPanel(w.VBox):
         self.colour_bar = figure(
             [self.bar_image],
             [self.bar_axis],
-            "118px",
+            "108px",
             height,
-            margin={"top": 16, "bottom": 52, "left": 4, "right": 84},
+            margin={"top": 16, "bottom": 52, "left": 4, "right": 76},
         )
         self.measure = w.Dropdown(
             options=[(MEASURE_LABELS[m], m) for m in MAP_MEASURES],
             value=state.map_measure,
             description="measure",
             style={"description_width": "58px"},
-            layout=w.Layout(width="300px"),
+            layout=w.Layout(width="290px"),
             tooltip="steepness measure drawn; the relative nH takes EC10/EC90 as fractions of "
             "the readout ceiling",
         )

@@ -80,6 +80,20 @@ def table_rows(state: ExplorerState) -> list[tuple[str, str, str, str]]:
             ("10→90 % switching time", format_number(course.switching_time), "", "s"),
             ("relaxation time (final state)", format_number(course.relaxation_time), "", "s"),
         ]
+    dynamics = r.get("dynamics")
+    if dynamics:
+        down, up = dynamics["down"], dynamics["up"]
+        rows += [
+            ("half-time, kinase halved", format_number(down.get("half_time")), "", "s"),
+            ("half-time, kinase restored", format_number(up.get("half_time")), "", "s"),
+            ("relaxation time here", format_number(dynamics.get("relaxation_time")), "", "s"),
+            (
+                "relaxation time at EC50",
+                format_number(dynamics.get("relaxation_time_at_threshold")),
+                "",
+                "s",
+            ),
+        ]
     return rows
 
 
