@@ -56,6 +56,8 @@ class Explorer(w.VBox):
         The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
     controls, curve, time_course, steepness, table, snapshots : panels
         The panels; each also works on its own with the same state.
+    tabs : ipywidgets.Tab
+        The tabbed area under the map (Readout, Snapshots, and any added with `add_tab`).
 
     Raises
     ------
@@ -92,11 +94,11 @@ class Explorer(w.VBox):
                 padding="0 6px 0 0",
             ),
         )
-        right_tabs = w.Tab(children=[self.table, self.snapshots], layout=w.Layout(width="428px"))
-        right_tabs.set_title(0, "Readout")
-        right_tabs.set_title(1, "Snapshots")
+        self.tabs = w.Tab(layout=w.Layout(width="428px"))
+        self.add_tab("Readout", self.table)
+        self.add_tab("Snapshots", self.snapshots)
         middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
-        right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="435px"))
+        right = w.VBox([self.steepness, self.tabs], layout=w.Layout(width="435px"))
         header = w.HBox(
             [
                 w.HTML(
@@ -121,6 +123,49 @@ class Explorer(w.VBox):
             ],
         )
         self.add_class("hairtrigger-explorer")
+
+    def add_tab(self, title: str, panel: w.Widget, select: bool = False) -> int:
+        """Add `panel` as a tab beside the readout table and the snapshots.
+
+        The panel should observe `state` (build it with ``Panel(explorer.state)``) and not
+        talk to the other panels. Keep it within the tab area (about 420 px wide) so
+        the explorer still fits a 1280-px window.
+
+        Parameters
+        ----------
+        title : str
+            Tab title (short: the tab bar is about 430 px wide).
+        panel : ipywidgets.Widget
+            The panel to show.
+        select : bool
+            Bring the new tab to the front.
+
+        Returns
+        -------
+        int
+            Index of the new tab.
+
+        Raises
+        ------
+        ValueError
+            `title` is empty, or `panel` is not a widget or is already a tab.
+        """
+        if not isinstance(title, str) or not title.strip():
+            msg = f"`title` must be a non-empty string; got {title!r}"
+            raise ValueError(msg)
+        if not isinstance(panel, w.Widget):
+            msg = f"`panel` must be an ipywidgets widget; got {type(panel).__name__}"
+            raise ValueError(msg)
+        if any(child is panel for child in self.tabs.children):
+            msg = f"`panel` is already a tab ({type(panel).__name__})"
+            raise ValueError(msg)
+        titles = (*self.tabs.titles, title.strip())
+        with self.tabs.hold_sync():
+            self.tabs.children = (*self.tabs.children, panel)
+            self.tabs.titles = titles
+            if select:
+                self.tabs.selected_index = len(titles) - 1
+        return len(titles) - 1
 
     def flush(self) -> None:
         """Run pending debounced work now (map recompute, download link)."""
