@@ -59,13 +59,15 @@ def median_ms(samples: list[float]) -> float:
     return 1e3 * statistics.median(samples)
 
 
-def time_calls(function: Callable[[], Any], repeats: int) -> list[float]:
+def time_calls(function: Callable[[], Any], repeats: int, cpu: bool = False) -> list[float]:
+    """Seconds per call (wall clock, or CPU time of this thread with ``cpu=True``)."""
+    clock = time.thread_time if cpu else time.perf_counter
     function()  # warm-up (JIT compilation, caches)
     out = []
     for _ in range(repeats):
-        start = time.perf_counter()
+        start = clock()
         function()
-        out.append(time.perf_counter() - start)
+        out.append(clock() - start)
     return out
 
 
@@ -119,10 +121,12 @@ def main(argv: list[str] | None = None) -> int:
                 compute_time_course(cycle, model, state.readout, state.step_activity_ratio),
             ),
             n,
+            cpu=True,
         )
         print(f"[{model}]")
         print(
-            f"  baseline: core work of one move (evaluate + time course) {median_ms(core):6.2f} ms"
+            f"  baseline: core work of one move (evaluate + time course), CPU "
+            f"{median_ms(core):6.2f} ms"
         )
         sweeps = {
             "activity_ratio": np.geomspace(0.9, 1.1, n),
