@@ -2,6 +2,7 @@
 
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
+from .noise import NoisePanel
 from .snapshots import SnapshotPanel
 from .steepness import SteepnessMapPanel
 from .table import ReadoutTable
@@ -11,6 +12,7 @@ __all__ = [
     "ControlsPanel",
     "KinaseRatioControl",
     "LogControl",
+    "NoisePanel",
     "ReadoutTable",
     "ResponseCurvePanel",
     "SnapshotPanel",
