@@ -56,11 +56,11 @@ COPY_MODES: Final[dict[str, str]] = {"volume": "cell volume (fL)", "molecules": 
 PANEL_MAX_MOLECULES: Final[int] = 1_000_000
 
 #: Up to this N the distribution is recomputed at once on every change (measured ≲ 1 ms).
-DISTRIBUTION_LIVE_LIMIT: Final[int] = 50_000
+DISTRIBUTION_LIVE_LIMIT: Final[int] = 5_000
 
 #: Up to this N the population curve and thresholds are recomputed at once (≲ 6 ms measured);
 #: above, they follow after a quiet period (see `NoisePanel(debounce=...)`).
-POPULATION_LIVE_LIMIT: Final[int] = 5_000
+POPULATION_LIVE_LIMIT: Final[int] = 1_000
 
 #: Most bins drawn for p(n) (the chain may have a million states).
 MAX_BINS: Final[int] = 300
@@ -70,7 +70,7 @@ LOG_WINDOW: Final[float] = 16.0
 
 #: Ratios on the population curve at small N, and the matrix size kept at large N.
 POPULATION_POINTS: Final[int] = 161
-POPULATION_CELLS: Final[int] = 4_000_000
+POPULATION_CELLS: Final[int] = 1_000_000
 MIN_POPULATION_POINTS: Final[int] = 41
 
 #: Limits of the trajectory controls.
