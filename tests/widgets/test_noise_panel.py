@@ -209,14 +209,21 @@ def test_trajectories_equal_core_and_reproduce(panel: NoisePanel, qs_state: Expl
     cycle = qs_state.cycle
     steps = {"kinase_total": cycle.with_activity_ratio(qs_state.step_activity_ratio).kinase_total}
     direct = simulate_ensemble(
-        cycle, 2.0, 40, volume=1.0, model="quasi_steady", points=TRAJECTORY_POINTS, seed=7,
+        cycle,
+        2.0,
+        40,
+        volume=1.0,
+        model="quasi_steady",
+        points=TRAJECTORY_POINTS,
+        seed=7,
         steps=steps,
     )
     values = direct.readout(qs_state.readout)
     np.testing.assert_allclose(panel.mean_line.y, values.mean(axis=0), rtol=1e-12)
     np.testing.assert_allclose(panel.band.y[1] - panel.band.y[0], 2 * values.std(axis=0, ddof=1))
-    course = time_course(cycle, steps, 2.0, TRAJECTORY_POINTS, model="quasi_steady",
-                         readout=qs_state.readout)
+    course = time_course(
+        cycle, steps, 2.0, TRAJECTORY_POINTS, model="quasi_steady", readout=qs_state.readout
+    )
     np.testing.assert_allclose(panel.course_line.y, course["readout"], rtol=1e-12)
     band = np.array(panel.band.y)
     panel.simulate()  # same seed, same trajectories

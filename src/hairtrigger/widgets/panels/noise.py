@@ -31,7 +31,7 @@ import ipywidgets as w
 import numpy as np
 from traitlets import Instance
 
-from ...core.copynumber import MOLECULES_PER_UM_FL, CopyNumbers, check_volume
+from ...core.copynumber import CopyNumbers, check_volume
 from ...core.noise import (
     BirthDeathChain,
     PopulationThresholds,
@@ -103,7 +103,7 @@ class CopySetting:
         if self.mode == "volume":
             copies = CopyNumbers.from_volume(cycle, self.value)
         else:
-            copies = CopyNumbers.from_molecules(cycle, self.value)
+            copies = CopyNumbers.from_molecules(cycle, int(self.value))
         if copies.substrate > PANEL_MAX_MOLECULES:
             msg = (
                 f"{copies.substrate} substrate molecules is more than the panel's limit of "
@@ -125,9 +125,7 @@ class CopySetting:
             size = f"N = {copies.substrate} substrate molecules in {copies.volume:.4g} fL"
         else:
             size = f"N = {copies.substrate} (volume {copies.volume:.4g} fL at this W)"
-        return (
-            f"{size}; kinase {copies.kinase:.4g}, phosphatase {copies.phosphatase:.4g} molecules"
-        )
+        return f"{size}; kinase {copies.kinase:.4g}, phosphatase {copies.phosphatase:.4g} molecules"
 
 
 def parse_copy_entry(text: str, mode: str) -> CopySetting:
@@ -156,9 +154,9 @@ def parse_copy_entry(text: str, mode: str) -> CopySetting:
     return CopySetting("molecules", int(number))
 
 
-def binned_distribution(dist: StationaryDistribution, max_bins: int = MAX_BINS) -> tuple[
-    np.ndarray, np.ndarray
-]:
+def binned_distribution(
+    dist: StationaryDistribution, max_bins: int = MAX_BINS
+) -> tuple[np.ndarray, np.ndarray]:
     """Step outline of p(n) over the states that matter, at most `max_bins` bins.
 
     The window keeps the states with ln p(n) within `LOG_WINDOW` of the mode (p below about
@@ -185,9 +183,7 @@ def binned_distribution(dist: StationaryDistribution, max_bins: int = MAX_BINS) 
     return x, y
 
 
-def population_window(
-    cycle: Cycle, thresholds: PopulationThresholds, points: int
-) -> np.ndarray:
+def population_window(cycle: Cycle, thresholds: PopulationThresholds, points: int) -> np.ndarray:
     """Activity ratios spanning both transitions and the operating point.
 
     Centred on the deterministic and population thresholds, three times the wider 10–90 %
@@ -195,7 +191,7 @@ def population_window(
     """
     spec = PARAMETER_SPECS["activity_ratio"]
     det = population_deterministic_thresholds(cycle)
-    marks = [v for v in (*det, thresholds.activity_ratio_10, thresholds.activity_ratio_90)]
+    marks = [*det, thresholds.activity_ratio_10, thresholds.activity_ratio_90]
     finite = [math.log10(v) for v in marks if math.isfinite(v) and v > 0]
     lo_t, hi_t = (min(finite), max(finite)) if finite else (0.0, 0.0)
     pad = max(0.3, 3.0 * (hi_t - lo_t))
@@ -465,12 +461,19 @@ class NoisePanel(w.VBox):
             stroke_width=1.5,
         )
         self.mean_marker = bq.Lines(
-            x=np.zeros(2), y=np.array([0.0, 1.0]), scales=scales, colors=["#111111"],
+            x=np.zeros(2),
+            y=np.array([0.0, 1.0]),
+            scales=scales,
+            colors=["#111111"],
             stroke_width=1.5,
         )
         self.deterministic_marker = bq.Lines(
-            x=np.zeros(2), y=np.array([0.0, 1.0]), scales=scales, colors=[OKABE_ITO[1]],
-            line_style="dashed", stroke_width=1.5,
+            x=np.zeros(2),
+            y=np.array([0.0, 1.0]),
+            scales=scales,
+            colors=[OKABE_ITO[1]],
+            line_style="dashed",
+            stroke_width=1.5,
         )
         self.distribution_figure = figure(
             [self.distribution_line, self.mean_marker, self.deterministic_marker],
@@ -499,7 +502,11 @@ class NoisePanel(w.VBox):
         scales = {"x": self.r_scale, "y": self.y_scale}
         ones = np.ones(2)  # placeholders must be positive on a log scale
         self.deterministic_line = bq.Lines(
-            x=ones, y=ones, scales=scales, colors=[DETERMINISTIC_COLOUR], line_style="dashed",
+            x=ones,
+            y=ones,
+            scales=scales,
+            colors=[DETERMINISTIC_COLOUR],
+            line_style="dashed",
             stroke_width=1.5,
         )
         self.population_line = bq.Lines(
@@ -556,12 +563,17 @@ class NoisePanel(w.VBox):
             layout=w.Layout(width="130px"),
         )
         self.run_button = w.Button(
-            description="Simulate", button_style="primary", icon="play",
+            description="Simulate",
+            button_style="primary",
+            icon="play",
             tooltip="simulate the ensemble of the step (Gillespie direct method)",
             layout=w.Layout(width="110px"),
         )
         self.cancel_button = w.Button(
-            description="Cancel", icon="stop", disabled=True, layout=w.Layout(width="90px"),
+            description="Cancel",
+            icon="stop",
+            disabled=True,
+            layout=w.Layout(width="90px"),
             tooltip="stop the ensemble; finished trajectories are kept",
         )
         self.progress_bar = w.IntProgress(
@@ -593,16 +605,29 @@ class NoisePanel(w.VBox):
             visible=False,
         )
         self.sample_lines = bq.Lines(
-            x=np.array([0.0, 1.0]), y=np.zeros((1, 2)), scales=scales, colors=[SAMPLE_COLOUR],
-            stroke_width=0.8, visible=False,
+            x=np.array([0.0, 1.0]),
+            y=np.zeros((1, 2)),
+            scales=scales,
+            colors=[SAMPLE_COLOUR],
+            stroke_width=0.8,
+            visible=False,
         )
         self.mean_line = bq.Lines(
-            x=np.array([0.0, 1.0]), y=zeros, scales=scales, colors=[MEAN_COLOUR],
-            stroke_width=2.5, visible=False,
+            x=np.array([0.0, 1.0]),
+            y=zeros,
+            scales=scales,
+            colors=[MEAN_COLOUR],
+            stroke_width=2.5,
+            visible=False,
         )
         self.course_line = bq.Lines(
-            x=np.array([0.0, 1.0]), y=zeros, scales=scales, colors=[OKABE_ITO[1]],
-            line_style="dashed", stroke_width=2.0, visible=False,
+            x=np.array([0.0, 1.0]),
+            y=zeros,
+            scales=scales,
+            colors=[OKABE_ITO[1]],
+            line_style="dashed",
+            stroke_width=2.0,
+            visible=False,
         )
         self.trajectory_figure = figure(
             [self.band, self.sample_lines, self.mean_line, self.course_line],
@@ -626,11 +651,13 @@ class NoisePanel(w.VBox):
         self.trajectory_text = w.HTML()
         self.trajectory_stale = w.HTML()
         self.trajectory_message = MessageLine()
-        self.run_button.on_click(lambda _: reporting(lambda: self.trajectory_message)(
-            self.simulate)())
+        self.run_button.on_click(
+            lambda _: reporting(lambda: self.trajectory_message)(self.simulate)()
+        )
         self.cancel_button.on_click(lambda _: self.cancel())
-        self.window_button.on_click(lambda _: reporting(lambda: self.trajectory_message)(
-            self.use_step_window)())
+        self.window_button.on_click(
+            lambda _: reporting(lambda: self.trajectory_message)(self.use_step_window)()
+        )
         self.use_step_window()
 
     # --- copy number ----------------------------------------------------------------------
@@ -850,7 +877,7 @@ class NoisePanel(w.VBox):
         if cycle is None:
             msg = "no parameters to simulate"
             raise ValueError(msg)
-        copies = self.setting.copies(cycle)
+        self.setting.copies(cycle)  # refuse a compartment that no longer fits
         after = cycle.with_activity_ratio(state.step_activity_ratio)
         steps = {"kinase_total": after.kinase_total}
         return TrajectoryRequest(
@@ -863,17 +890,20 @@ class NoisePanel(w.VBox):
             t_end=float(self.t_end_entry.value),
             seed=int(self.seed_entry.value),
             ratio_after=state.step_activity_ratio,
-            key=self._current_key(copies),
+            key=self._current_key(),
         )
 
-    def _current_key(self, copies: CopyNumbers | None = None) -> tuple[Any, ...]:
+    def _current_key(self) -> tuple[Any, ...]:
+        # What a run depends on: a change of any of these makes the drawn ensemble stale.
         state = self._state
-        cycle = state.cycle
-        return (cycle, state.model, state.readout, state.step_activity_ratio, self.setting)
+        return (state.cycle, state.model, state.readout, state.step_activity_ratio, self.setting)
 
     def simulate(self) -> None:
-        """Run the ensemble of the explorer's step (in a worker thread unless `background` is
-        False). A run already going is left alone."""
+        """Run the ensemble of the explorer's step.
+
+        In a worker thread unless `background` is False (then it returns when the run is
+        over). A run already going is left alone.
+        """
         if self.running:
             self.trajectory_message.show_note("an ensemble is already running")
             return
@@ -892,7 +922,9 @@ class NoisePanel(w.VBox):
         )
         if self.background:
             self._worker = threading.Thread(
-                target=self._work, args=(request, self._cancel), daemon=True,
+                target=self._work,
+                args=(request, self._cancel),
+                daemon=True,
                 name="hairtrigger-noise-ssa",
             )
             self._worker.start()
@@ -947,7 +979,7 @@ class NoisePanel(w.VBox):
             self.t_scale.max = float(t[-1])
         with self.f_scale.hold_sync():
             self.f_scale.min = bottom * 0.95
-            self.f_scale.max = min(top, 1.05) if top <= 1.05 else top
+            self.f_scale.max = top
         with self.band.hold_sync():
             self.band.x = t.copy()
             self.band.y = np.vstack([lower, upper])
@@ -980,7 +1012,8 @@ class NoisePanel(w.VBox):
             '<div style="font-size:85%">'
             f"Step r = {request.cycle.activity_ratio:.4g} → {request.ratio_after:.4g}, "
             f"{ensemble.trajectories} trajectories ({ensemble.model}, N = {ensemble.molecules}, "
-            f"seed {ensemble.seed}): readout at t_end {mean[-1]:.3f}{sd_text}{det_text}; "
+            f"seed {ensemble.seed}): {html.escape(READOUT_LABELS[request.readout])} at t_end "
+            f"{mean[-1]:.3f}{sd_text} (mean ± sd){det_text}; "
             f"{ensemble.total_events} events in {ensemble.wall_time:.2g} s "
             f"({ensemble.events_per_second:.3g}/s).</div>",
         )
@@ -1009,16 +1042,10 @@ class NoisePanel(w.VBox):
         )
         _set_html(self.trajectory_stale, label)
 
-    @property
-    def readout_label(self) -> str:
-        """Label of the readout the trajectories show."""
-        return READOUT_LABELS[self._state.readout]
-
 
 __all__ = [
     "COPY_MODES",
     "CopySetting",
-    "MOLECULES_PER_UM_FL",
     "NoisePanel",
     "TrajectoryOutcome",
     "TrajectoryRequest",
