@@ -315,3 +315,72 @@ def test_no_nan_in_any_mark_after_updates(panel: NoisePanel, qs_state: ExplorerS
     qs_state.activity_ratio = 1e-3
     _assert_no_nan(panel)
     assert math.isfinite(panel.distribution.mean)  # type: ignore[union-attr]
+
+
+def test_compartment_that_no_longer_fits_keeps_the_last_view(
+    panel: NoisePanel, qs_state: ExplorerState
+) -> None:
+    panel.set_copy_number("volume", 0.5)
+    y_before = np.array(panel.distribution_line.y)
+    qs_state.substrate_total = 1e-3  # 0.5 fL now holds 0.3 substrate molecules
+    assert "copy number" in panel.message.text and "at least 1" in panel.message.text
+    np.testing.assert_array_equal(panel.distribution_line.y, y_before)
+    qs_state.substrate_total = 1.0
+    assert panel.message.text == ""
+
+
+def test_wired_into_the_explorer_as_a_tab(messages: Any) -> None:
+    from hairtrigger.widgets import Explorer
+
+    explorer = Explorer()
+    panel = NoisePanel(explorer.state)
+    index = explorer.add_tab("Noise", panel)
+    assert explorer.tabs.titles[index] == "Noise"
+    assert explorer.tabs.titles[:2] == ("Readout", "Snapshots")
+    slider = explorer.controls.controls["activity_ratio"].slider
+    messages.clear()
+    slider.value = 1.05
+    ours = [m for m in messages.updates() if m[0] in _panel_widgets(panel)]
+    # One message per changed mark or scale (hold_sync), a handful of texts: bounded.
+    assert 0 < len(ours) <= 16
+    chain = BirthDeathChain.from_cycle(explorer.state.cycle, volume=1.0)
+    assert panel.mean_marker.x[0] == pytest.approx(stationary_distribution(chain).mean)
+
+
+def test_large_n_move_sends_little_before_the_pause(panel: NoisePanel, messages: Any) -> None:
+    panel.set_copy_number("molecules", 200_000)
+    panel.flush()
+
+    async def move() -> int:
+        messages.clear()
+        panel._state.activity_ratio = 1.02
+        return len([m for m in messages.updates() if m[0] in _panel_widgets(panel)])
+
+    sent = asyncio.run(move())
+    assert sent <= 2  # the busy indicator only; p(n) and the population curve wait
+    assert panel._debouncer.pending
+    panel.flush()
+    chain = BirthDeathChain.from_cycle(panel._state.cycle, molecules=200_000)
+    assert panel.mean_marker.x[0] == pytest.approx(stationary_distribution(chain).mean)
+
+
+def _panel_widgets(panel: NoisePanel) -> set[Any]:
+    found: set[Any] = set()
+
+    def walk(widget: Any) -> None:
+        if id(widget) in {id(x) for x in found}:
+            return
+        found.add(widget)
+        for name in ("children", "marks", "axes"):
+            for child in getattr(widget, name, ()) or ():
+                walk(child)
+        for name in ("scales", "scale"):
+            value = getattr(widget, name, None)
+            if isinstance(value, dict):
+                for child in value.values():
+                    walk(child)
+            elif value is not None and hasattr(value, "comm"):
+                walk(value)
+
+    walk(panel)
+    return found
