@@ -384,3 +384,17 @@ def _panel_widgets(panel: NoisePanel) -> set[Any]:
 
     walk(panel)
     return found
+
+
+def test_busy_indicator_shows_while_an_ensemble_runs(panel: NoisePanel) -> None:
+    seen: list[bool] = []
+    original = panel._progress
+
+    def watch(done: int, total: int) -> None:
+        seen.append(panel.busy.shown)
+        original(done, total)
+
+    panel._progress = watch  # type: ignore[method-assign]
+    panel.simulate()
+    assert seen and all(seen)
+    assert not panel.busy.shown

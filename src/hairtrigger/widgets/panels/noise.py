@@ -918,6 +918,7 @@ class NoisePanel(w.VBox):
         self.progress_bar.value = 0
         self.run_button.disabled = True
         self.cancel_button.disabled = False
+        self.busy.hold("trajectories")
         self.trajectory_message.show_note(
             f"simulating {request.trajectories} trajectories ({request.model})…"
         )
@@ -955,6 +956,7 @@ class NoisePanel(w.VBox):
         else:
             self._show_outcome(outcome)
         finally:
+            self.busy.release("trajectories")
             self.run_button.disabled = False
             self.cancel_button.disabled = True
 
