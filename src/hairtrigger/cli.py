@@ -21,6 +21,7 @@ from .commands import UserError
 COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
+    "report",
 )
 
 
