@@ -15,7 +15,14 @@ from numpy.typing import ArrayLike
 
 from .params import MODELS, READOUTS, Cycle, check_choice
 from .steady import FloatArray, steady_state
-from .steepness import peak_sensitivity, readout_ceiling, thresholds
+from .steepness import (
+    LN81,
+    peak_sensitivity,
+    quasi_steady_hill_coefficient,
+    readout_ceiling,
+    threshold_log_ratios,
+    thresholds,
+)
 
 #: Keys of the threshold block, absolute and relative.
 THRESHOLD_KEYS: Final[tuple[str, ...]] = (
@@ -184,7 +191,13 @@ def steepness_map(
     params["phosphatase_km"] = km2
     if measure == "peak_sensitivity":
         return np.broadcast_to(peak_sensitivity(params, model, readout), shape).astype(float)
+    if model == "quasi_steady" and measure != "response_coefficient":
+        # Absolute and relative thresholds coincide (ceiling 1); the closed form is exact.
+        values = quasi_steady_hill_coefficient(km1 / cycle.substrate_total, km2 / cycle.substrate_total)
+        return np.broadcast_to(values, shape).astype(float)
     relative = measure == "relative_hill_coefficient"
-    key = "response_coefficient" if measure == "response_coefficient" else "hill_coefficient"
-    values = thresholds(params, model, readout, relative=relative)[key]
+    log10, log90 = threshold_log_ratios(params, model, readout, (0.1, 0.9), relative)
+    log_rv = log90 - log10
+    with np.errstate(divide="ignore", invalid="ignore"):
+        values = np.exp(log_rv) if measure == "response_coefficient" else LN81 / log_rv
     return np.broadcast_to(values, shape).astype(float)

@@ -84,41 +84,15 @@ def inverse_state(
     check_choice("readout", readout, READOUTS)
     t = np.asarray(target, dtype=float)
     c = 1.0 - t if complement is None else np.asarray(complement, dtype=float)
-    w = _get(params, "substrate_total")
-    kc1 = _get(params, "kinase_kcat")
+    a, b, c1, c2, flux = _species_at_target(t, c, params, model, readout)
     m1 = _get(params, "kinase_km")
-    e2 = _get(params, "phosphatase_total")
-    kc2 = _get(params, "phosphatase_kcat")
-    m2 = _get(params, "phosphatase_km")
-    v2 = kc2 * e2
-    if model == "quasi_steady":
-        b = t * w
-        a = c * w
-        flux = v2 * b / (m2 + b)
-        c1 = np.zeros(np.broadcast(a, flux).shape)
-        c2 = c1.copy()
-    elif readout == "free_modified":
-        b = t * w
-        flux = v2 * b / (m2 + b)
-        c1 = flux / kc1
-        c2 = e2 * b / (m2 + b)
-        a = c * w - c1 - c2
-    else:
-        # B + E2·B/(M2 + B) = t·W  ->  B² + (M2 + E2 − tW)·B − tW·M2 = 0
-        tw = t * w
-        b = positive_root(m2 + e2 - tw, tw * m2)
-        c2 = e2 * b / (m2 + b)
-        flux = kc2 * c2
-        c1 = flux / kc1
-        a = c * w - c1
     reachable = np.asarray(a > 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
         a_ok = np.where(reachable, a, np.nan)
-        # r − 1 = (B·M1 − A·M2) / (A·(M2 + B)), exact for both models.
-        ratio_m1 = (b * m1 - a_ok * m2) / (a_ok * (m2 + b))
-        log_ratio = np.log1p(ratio_m1)
+        log_ratio = _log_activity_ratio(a_ok, b, m1, _get(params, "phosphatase_km"))
         if model == "quasi_steady":
-            kinase_total = np.exp(log_ratio) * v2 / kc1
+            v2 = _get(params, "phosphatase_kcat") * _get(params, "phosphatase_total")
+            kinase_total = np.exp(log_ratio) * v2 / _get(params, "kinase_kcat")
         else:
             kinase_total = c1 * (m1 + a_ok) / a_ok
     shape = np.broadcast(log_ratio, b).shape
@@ -132,6 +106,48 @@ def inverse_state(
         flux=np.broadcast_to(flux, shape).astype(float),
         kinase_total=np.broadcast_to(kinase_total, shape).astype(float),
     )
+
+
+def _species_at_target(
+    t: ArrayLike, c: ArrayLike, params: Mapping[str, ArrayLike], model: str, readout: str
+) -> tuple[FloatArray, FloatArray, FloatArray, FloatArray, FloatArray]:
+    """(A, B, C1, C2, v) at the steady state whose readout is t (complement c = 1 − t)."""
+    w = _get(params, "substrate_total")
+    kc1 = _get(params, "kinase_kcat")
+    e2 = _get(params, "phosphatase_total")
+    kc2 = _get(params, "phosphatase_kcat")
+    m2 = _get(params, "phosphatase_km")
+    if model == "quasi_steady":
+        b = t * w
+        a = c * w
+        flux = kc2 * e2 * b / (m2 + b)
+        c1 = np.zeros(np.broadcast(a, flux).shape)
+        return a, b, c1, c1, flux
+    if readout == "free_modified":
+        b = t * w
+        c2 = e2 * b / (m2 + b)
+    else:
+        # B + E2·B/(M2 + B) = t·W  ->  B² + (M2 + E2 − tW)·B − tW·M2 = 0
+        tw = t * w
+        b = positive_root(m2 + e2 - tw, tw * m2)
+        c2 = e2 * b / (m2 + b)
+    flux = kc2 * c2
+    c1 = flux / kc1
+    a = c * w - c1 - (c2 if readout == "free_modified" else 0.0)
+    return a, b, c1, c2, flux
+
+
+def _log_activity_ratio(a: FloatArray, b: FloatArray, m1: FloatArray, m2: FloatArray) -> FloatArray:
+    """Log activity ratio ln r, r = B·(M1 + A)/(A·(M2 + B)), accurate near r = 1 and far from it.
+
+    r − 1 = (B·M1 − A·M2)/(A·(M2 + B)) exactly, and log1p of it keeps ln r accurate near
+    r = 1 (steep switches, pitfall 4); far from 1 the plain logarithm of r is the accurate one
+    (log1p(r − 1) fails as r → 0).
+    """
+    denominator = a * (m2 + b)
+    ratio_m1 = (b * m1 - a * m2) / denominator
+    ratio = b * (m1 + a) / denominator
+    return np.where(np.abs(ratio_m1) < 0.5, np.log1p(ratio_m1), np.log(ratio))
 
 
 def readout_ceiling(
@@ -211,22 +227,42 @@ def thresholds(
         ``response_coefficient`` (r90/r10), ``hill_coefficient`` (ln 81 / ln Rv) and
         ``log_response_coefficient``; NaN where a target is unreachable.
     """
-    ceiling = readout_ceiling(params, model, readout) if relative and model == "mass_action" else None
-    logs = {}
-    for frac in THRESHOLD_FRACTIONS:
-        t, c = _targets(frac, ceiling)
-        logs[frac] = inverse_state(t, params, model, readout, complement=c).log_ratio
-    log_rv = logs[0.9] - logs[0.1]
+    logs = threshold_log_ratios(params, model, readout, THRESHOLD_FRACTIONS, relative)
+    log_rv = logs[2] - logs[0]
     with np.errstate(divide="ignore", invalid="ignore"):
         hill = LN81 / log_rv
     return {
-        "activity_ratio_10": np.exp(logs[0.1]),
-        "activity_ratio_50": np.exp(logs[0.5]),
-        "activity_ratio_90": np.exp(logs[0.9]),
+        "activity_ratio_10": np.exp(logs[0]),
+        "activity_ratio_50": np.exp(logs[1]),
+        "activity_ratio_90": np.exp(logs[2]),
         "response_coefficient": np.exp(log_rv),
         "hill_coefficient": hill,
         "log_response_coefficient": log_rv,
     }
+
+
+def threshold_log_ratios(
+    params: Mapping[str, ArrayLike],
+    model: str,
+    readout: str,
+    fractions: tuple[float, ...],
+    relative: bool = False,
+) -> list[FloatArray]:
+    """Log activity ratio ln r at each readout fraction (of W, or of the ceiling when `relative`); NaN if unreachable."""
+    check_choice("model", model, MODELS)
+    check_choice("readout", readout, READOUTS)
+    ceiling = (
+        readout_ceiling(params, model, readout) if relative and model == "mass_action" else None
+    )
+    m1 = _get(params, "kinase_km")
+    m2 = _get(params, "phosphatase_km")
+    logs = []
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for frac in fractions:
+            t, c = _targets(frac, ceiling)
+            a, b, _, _, _ = _species_at_target(t, c, params, model, readout)
+            logs.append(_log_activity_ratio(np.where(a > 0.0, a, np.nan), b, m1, m2))
+    return logs
 
 
 def quasi_steady_response_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
@@ -240,7 +276,7 @@ def quasi_steady_response_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArra
 
 
 def quasi_steady_hill_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
-    """ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
+    """Hill coefficient ln 81 / ln Rv with Rv − 1 = (80·K1·K2 + 7.2·(K1 + K2)) / ((K1 + 0.9)(K2 + 0.9)).
 
     Writing Rv − 1 without subtraction keeps nH accurate as Rv → 1 (both Km tiny).
     """
@@ -252,12 +288,12 @@ def quasi_steady_hill_coefficient(k1: ArrayLike, k2: ArrayLike) -> FloatArray:
 
 # --- local sensitivity -----------------------------------------------------------------------
 
+
 def _log_slopes(
     s: FloatArray, params: Mapping[str, ArrayLike], model: str, readout: str
 ) -> FloatArray:
-    """d ln y / d ln r along the response curve, parametrised by s = B / B_max ∈ (0, 1)."""
+    """Slope d ln y / d ln r along the response curve, parametrised by s = B / B_max ∈ (0, 1)."""
     w = _get(params, "substrate_total")
-    kc1 = _get(params, "kinase_kcat")
     m1 = _get(params, "kinase_km")
     e2 = _get(params, "phosphatase_total")
     kc2 = _get(params, "phosphatase_kcat")
@@ -311,7 +347,9 @@ def peak_sensitivity(
     grid_s = 1.0 / (1.0 + np.exp(-logit))
     expanded = {k: np.asarray(v, dtype=float)[..., None] for k, v in params.items()}
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        values = _log_slopes(np.broadcast_to(grid_s, (*shape, grid_points)), expanded, model, readout)
+        values = _log_slopes(
+            np.broadcast_to(grid_s, (*shape, grid_points)), expanded, model, readout
+        )
         values = np.where(np.isfinite(values), values, -np.inf)
         best = np.argmax(values, axis=-1)
         lo = logit[np.clip(best - 1, 0, grid_points - 1)]
