@@ -22,6 +22,7 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
     "report",
+    "app",
 )
 
 
