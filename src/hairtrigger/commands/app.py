@@ -172,84 +172,135 @@ class _LogRelay(threading.Thread):
         self.found.set()  # the stream ended: Voila exited
 
 
+class VoilaServer:
+    """Voila serving one notebook on 127.0.0.1, as a child process with its own group.
+
+    Parameters
+    ----------
+    command : sequence of str
+        The Voila command line (`voila_command`).
+    env : mapping
+        Its environment.
+    verbose : bool
+        Pass on every log line (otherwise warnings, errors and tracebacks only).
+
+    Use as a context manager, or call `start` and `stop`; `address` is the URL Voila reported.
+    """
+
+    def __init__(self, command: Sequence[str], env: dict[str, str], verbose: bool = False) -> None:
+        self.command = list(command)
+        self.env = env
+        self.verbose = verbose
+        self.process: subprocess.Popen[str] | None = None
+        self.relay: _LogRelay | None = None
+        self.address: str | None = None
+
+    def start(self, timeout: float = STARTUP_TIMEOUT) -> str:
+        """Start Voila and wait until it reports its address; return the address."""
+        self.process = subprocess.Popen(  # noqa: S603 - our own interpreter and arguments
+            self.command, env=self.env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+            text=True, start_new_session=True,  # its kernels join its group, stopped at the end
+        )
+        self.relay = _LogRelay(self.process.stdout, self.verbose)  # type: ignore[arg-type]
+        self.relay.start()
+        if not self.relay.found.wait(timeout) or self.relay.address is None:
+            tail = "".join(self.relay.lines[-5:]).strip().splitlines()
+            detail = tail[-1] if tail else "no output"
+            self.stop()
+            msg = f"Voila did not start: {detail}"
+            raise UserError(msg)
+        self.address = self.relay.address
+        return self.address
+
+    def wait(self) -> int:
+        """Wait for Voila to exit; return its exit status."""
+        assert self.process is not None
+        return self.process.wait()
+
+    def stop(self) -> None:
+        """Stop Voila and its kernels: SIGTERM to its process group, SIGKILL if it lingers."""
+        process = self.process
+        if process is None:
+            return
+        if process.poll() is None:
+            try:
+                os.killpg(process.pid, signal.SIGTERM)
+            except ProcessLookupError:
+                pass
+            deadline = time.monotonic() + 8.0
+            while process.poll() is None and time.monotonic() < deadline:
+                time.sleep(0.05)
+        try:
+            os.killpg(process.pid, signal.SIGKILL)  # kernels left in the group
+        except (ProcessLookupError, PermissionError):
+            pass
+        process.wait()
+
+    def __enter__(self) -> VoilaServer:
+        self.start()
+        return self
+
+    def __exit__(self, *_exc: object) -> None:
+        self.stop()
+
+
+def app_environment(folder: Path, snapshot: Path | None = None,
+                    base: dict[str, str] | None = None) -> dict[str, str]:
+    """Environment for Voila serving the app folder `folder` (see `write_app_folder`)."""
+    env = dict(os.environ if base is None else base)
+    if snapshot is not None:
+        env[SNAPSHOT_ENV] = str(snapshot.resolve())
+    else:
+        env.pop(SNAPSHOT_ENV, None)
+    env["JUPYTER_PATH"] = os.pathsep.join(
+        [str(folder / "jupyter"), *filter(None, [env.get("JUPYTER_PATH")])]
+    )
+    # The kernel imports hairtrigger from wherever this process did (source checkouts too).
+    package_root = str(Path(__file__).resolve().parents[2])
+    env["PYTHONPATH"] = os.pathsep.join([package_root, *filter(None, [env.get("PYTHONPATH")])])
+    return env
+
+
 def run(args: argparse.Namespace) -> int:
     """Validate the snapshot, start Voila, print the address and wait for Ctrl+C."""
     if importlib.util.find_spec("voila") is None:
         msg = "the app needs Voila, which is not installed: pip install 'hairtrigger[app]'"
         raise UserError(msg)
-    env = dict(os.environ)
+    snapshot = None
     if args.snapshot:
         from ..io.snapshot import load_snapshot
 
-        path = Path(args.snapshot)
+        snapshot = Path(args.snapshot)
         try:
-            load_snapshot(path)
+            load_snapshot(snapshot)
         except (ValueError, OSError) as exc:
             msg = f"{args.snapshot}: {exc}"
             raise UserError(msg) from exc
-        env[SNAPSHOT_ENV] = str(path.resolve())
-    else:
-        env.pop(SNAPSHOT_ENV, None)
     port = args.port or free_port()
     with tempfile.TemporaryDirectory(prefix="hairtrigger-app-") as tmp:
         folder = Path(tmp)
         notebook = write_app_folder(folder)
-        env["JUPYTER_PATH"] = os.pathsep.join(
-            [str(folder / "jupyter"), *filter(None, [env.get("JUPYTER_PATH")])]
-        )
-        # The kernel imports hairtrigger from wherever this process did (source checkouts too).
-        package_root = str(Path(__file__).resolve().parents[2])
-        env["PYTHONPATH"] = os.pathsep.join([package_root, *filter(None, [env.get("PYTHONPATH")])])
-        return _serve(voila_command(notebook, port), env, args)
-
-
-def _serve(command: Sequence[str], env: dict[str, str], args: argparse.Namespace) -> int:
-    process = subprocess.Popen(  # noqa: S603 - our own interpreter and arguments
-        command, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
-        start_new_session=True,  # its kernels join its process group, which we stop at the end
-    )
-    relay = _LogRelay(process.stdout, args.verbose)  # type: ignore[arg-type]
-    relay.start()
-    previous = signal.signal(signal.SIGTERM, _raise_interrupt)
-    try:
-        if not relay.found.wait(STARTUP_TIMEOUT) or relay.address is None:
-            tail = "".join(relay.lines[-5:]).strip().splitlines()
-            detail = tail[-1] if tail else "no output"
-            msg = f"Voila did not start: {detail}"
-            raise UserError(msg)
-        print(f"hairtrigger app: the explorer is served at {relay.address}", flush=True)
-        print("hairtrigger app: press Ctrl+C to stop", flush=True)
-        if args.open:
-            webbrowser.open(relay.address)
-        status = process.wait()
-        if status != 0:
-            msg = f"Voila stopped with exit status {status}"
-            raise UserError(msg)
-        return 0
-    except KeyboardInterrupt:
-        print("hairtrigger app: stopped", flush=True)
-        return 0
-    finally:
-        signal.signal(signal.SIGTERM, previous)
-        _stop(process)
+        server = VoilaServer(voila_command(notebook, port), app_environment(folder, snapshot),
+                             verbose=args.verbose)
+        previous = signal.signal(signal.SIGTERM, _raise_interrupt)
+        try:
+            address = server.start()
+            print(f"hairtrigger app: the explorer is served at {address}", flush=True)
+            print("hairtrigger app: press Ctrl+C to stop", flush=True)
+            if args.open:
+                webbrowser.open(address)
+            status = server.wait()
+            if status != 0:
+                msg = f"Voila stopped with exit status {status}"
+                raise UserError(msg)
+            return 0
+        except KeyboardInterrupt:
+            print("hairtrigger app: stopped", flush=True)
+            return 0
+        finally:
+            signal.signal(signal.SIGTERM, previous)
+            server.stop()
 
 
 def _raise_interrupt(_signum: int, _frame: Any) -> None:
     raise KeyboardInterrupt
-
-
-def _stop(process: subprocess.Popen[str]) -> None:
-    """Stop Voila and its kernels: SIGTERM to its process group, SIGKILL if it lingers."""
-    if process.poll() is None:
-        try:
-            os.killpg(process.pid, signal.SIGTERM)
-        except ProcessLookupError:
-            pass
-        deadline = time.monotonic() + 8.0
-        while process.poll() is None and time.monotonic() < deadline:
-            time.sleep(0.05)
-    try:
-        os.killpg(process.pid, signal.SIGKILL)  # kernels left in the group
-    except (ProcessLookupError, PermissionError):
-        pass
-    process.wait()
