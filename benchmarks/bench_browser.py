@@ -42,8 +42,14 @@ from hairtrigger.commands.app import (
 CURVE_BUDGET_MS = 100.0
 MAP_BUDGET_MS = 150.0
 LAUNCH_ARGS = [
-    "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-    "--disable-background-networking", "--disable-component-update", "--disable-sync",
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
 ]
 
 BASELINE_SOURCE = """\
@@ -65,7 +71,8 @@ async ([handleSel, targetSel, attr, key, moves, settleMs, timeoutMs]) => {
   for (let i = 0; i < moves; i++) {
     const handle = document.querySelector(handleSel);
     const target = document.querySelector(targetSel);
-    if (!handle || !target) throw new Error('selector not found: ' + (!handle ? handleSel : targetSel));
+    if (!handle || !target)
+      throw new Error('selector not found: ' + (!handle ? handleSel : targetSel));
     handle.focus();
     const k = (typeof key === 'string') ? key : key[i % key.length];
     const before = target.getAttribute(attr);
@@ -77,7 +84,8 @@ async ([handleSel, targetSel, attr, key, moves, settleMs, timeoutMs]) => {
       setTimeout(() => { obs.disconnect(); resolve(null); }, timeoutMs);
     });
     const t0 = performance.now();
-    handle.dispatchEvent(new KeyboardEvent('keydown', {key: k, code: k, bubbles: true, cancelable: true}));
+    handle.dispatchEvent(
+      new KeyboardEvent('keydown', {key: k, code: k, bubbles: true, cancelable: true}));
     const t1 = await changed;
     out.push(t1 === null ? null : t1 - t0);
     await frame(); await sleep(settleMs);
@@ -100,20 +108,40 @@ def summary(name: str, values: list[float | None]) -> dict[str, Any]:
     if not good:
         return {"name": name, "n": 0, "missed": missed}
     return {
-        "name": name, "n": len(good), "missed": missed,
-        "median": statistics.median(good), "p90": percentile(good, 0.9),
-        "min": min(good), "max": max(good),
+        "name": name,
+        "n": len(good),
+        "missed": missed,
+        "median": statistics.median(good),
+        "p90": percentile(good, 0.9),
+        "min": min(good),
+        "max": max(good),
     }
 
 
 def notebook_json(source: str) -> str:
-    return json.dumps({
-        "cells": [{"cell_type": "code", "execution_count": None, "id": "bench", "metadata": {},
-                   "outputs": [], "source": source.splitlines(keepends=True)}],
-        "metadata": {"kernelspec": {"display_name": "hairtrigger", "language": "python",
-                                    "name": KERNEL_NAME}},
-        "nbformat": 4, "nbformat_minor": 5,
-    })
+    return json.dumps(
+        {
+            "cells": [
+                {
+                    "cell_type": "code",
+                    "execution_count": None,
+                    "id": "bench",
+                    "metadata": {},
+                    "outputs": [],
+                    "source": source.splitlines(keepends=True),
+                }
+            ],
+            "metadata": {
+                "kernelspec": {
+                    "display_name": "hairtrigger",
+                    "language": "python",
+                    "name": KERNEL_NAME,
+                }
+            },
+            "nbformat": 4,
+            "nbformat_minor": 5,
+        }
+    )
 
 
 @contextmanager
@@ -145,8 +173,16 @@ def browser() -> Iterator[Any]:
             b.close()
 
 
-def measure(page: Any, handle: str, target: str, attr: str, key: str | list[str], moves: int,
-            settle_ms: int = 120, timeout_ms: int = 5000) -> list[float | None]:
+def measure(
+    page: Any,
+    handle: str,
+    target: str,
+    attr: str,
+    key: str | list[str],
+    moves: int,
+    settle_ms: int = 120,
+    timeout_ms: int = 5000,
+) -> list[float | None]:
     return page.evaluate(MEASURE_JS, [handle, target, attr, key, moves, settle_ms, timeout_ms])
 
 
@@ -156,23 +192,33 @@ def bench_baseline(b: Any, moves: int) -> dict[str, Any]:
         page.goto(url)
         page.wait_for_selector("svg.svg-figure path.line", timeout=60000)
         page.wait_for_selector(".widget-slider .noUi-handle[role=slider]")
-        values = measure(page, ".widget-slider .noUi-handle[role=slider]",
-                         "svg.svg-figure path.line", "d", "ArrowRight", moves)
+        values = measure(
+            page,
+            ".widget-slider .noUi-handle[role=slider]",
+            "svg.svg-figure path.line",
+            "d",
+            "ArrowRight",
+            moves,
+        )
         page.close()
     return summary("baseline: trivial one-line figure", values)
 
 
 def report(rows: list[dict[str, Any]], baseline: dict[str, Any]) -> None:
     base = baseline.get("median")
-    print(f"{'measurement':48s} {'n':>4s} {'median':>8s} {'p90':>8s} {'min':>7s} {'max':>7s}"
-          f" {'x floor':>8s}")
+    print(
+        f"{'measurement':48s} {'n':>4s} {'median':>8s} {'p90':>8s} {'min':>7s} {'max':>7s}"
+        f" {'x floor':>8s}"
+    )
     for r in [baseline, *rows]:
         if not r.get("n"):
             print(f"{r['name']:48s} no change observed ({r['missed']} misses)")
             continue
         ratio = f"{r['median'] / base:8.1f}" if base else "       -"
-        print(f"{r['name']:48s} {r['n']:4d} {r['median']:8.1f} {r['p90']:8.1f} {r['min']:7.1f}"
-              f" {r['max']:7.1f} {ratio}" + (f"  ({r['missed']} missed)" if r["missed"] else ""))
+        print(
+            f"{r['name']:48s} {r['n']:4d} {r['median']:8.1f} {r['p90']:8.1f} {r['min']:7.1f}"
+            f" {r['max']:7.1f} {ratio}" + (f"  ({r['missed']} missed)" if r["missed"] else "")
+        )
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -25,8 +25,20 @@ APP_NOTEBOOK = Path("notebooks") / "explore.ipynb"
 
 # Parts of the working tree that are not part of the repository a hosted service would clone.
 _IGNORED = shutil.ignore_patterns(
-    ".git", ".venv", "venv", "artifacts", "__pycache__", "*.pyc", ".pytest_cache", ".mypy_cache",
-    ".ruff_cache", ".hypothesis", "build", "dist", "*.egg-info", ".ipynb_checkpoints",
+    ".git",
+    ".venv",
+    "venv",
+    "artifacts",
+    "__pycache__",
+    "*.pyc",
+    ".pytest_cache",
+    ".mypy_cache",
+    ".ruff_cache",
+    ".hypothesis",
+    "build",
+    "dist",
+    "*.egg-info",
+    ".ipynb_checkpoints",
 )
 
 
@@ -61,24 +73,42 @@ def test_binder_requirements_install_and_the_app_notebook_executes(tmp_path: Pat
     if not (REPO / APP_NOTEBOOK).exists():
         pytest.skip(f"{APP_NOTEBOOK} is not in the repository yet (it comes with the widgets)")
     if sys.version_info[:2] != _runtime_version():
-        pytest.skip(f"needs Python {'.'.join(map(str, _runtime_version()))} as in "
-                    f"binder/runtime.txt; this is {sys.version.split()[0]}")
+        pytest.skip(
+            f"needs Python {'.'.join(map(str, _runtime_version()))} as in "
+            f"binder/runtime.txt; this is {sys.version.split()[0]}"
+        )
     repo = tmp_path / "repo"
     shutil.copytree(REPO, repo, ignore=_IGNORED)
     venv = tmp_path / "venv"
     subprocess.run([sys.executable, "-m", "venv", str(venv)], check=True)
     bin_dir = venv / "bin"
-    env = {k: v for k, v in os.environ.items()
-           if k not in {"PYTHONPATH", "VIRTUAL_ENV", "PYTHONHOME", "JUPYTER_PATH",
-                        "JUPYTER_CONFIG_DIR", "JUPYTER_DATA_DIR"}}
+    env = {
+        k: v
+        for k, v in os.environ.items()
+        if k
+        not in {
+            "PYTHONPATH",
+            "VIRTUAL_ENV",
+            "PYTHONHOME",
+            "JUPYTER_PATH",
+            "JUPYTER_CONFIG_DIR",
+            "JUPYTER_DATA_DIR",
+        }
+    }
     env["PATH"] = f"{bin_dir}{os.pathsep}{env.get('PATH', '')}"
     env["VIRTUAL_ENV"] = str(venv)
     env["JUPYTER_PLATFORM_DIRS"] = "1"
     env["HOME"] = str(tmp_path / "home")  # no user-level Jupyter config or kernels leak in
 
     def run(*cmd: str | Path, timeout: float = 900) -> subprocess.CompletedProcess[str]:
-        done = subprocess.run([str(c) for c in cmd], cwd=repo, env=env, text=True,
-                              capture_output=True, timeout=timeout)
+        done = subprocess.run(
+            [str(c) for c in cmd],
+            cwd=repo,
+            env=env,
+            text=True,
+            capture_output=True,
+            timeout=timeout,
+        )
         assert done.returncode == 0, f"{cmd} failed:\n{done.stdout[-3000:]}\n{done.stderr[-3000:]}"
         return done
 
@@ -97,11 +127,25 @@ def test_binder_requirements_install_and_the_app_notebook_executes(tmp_path: Pat
     assert python3 in {"python", str(bin_dir / "python")} or str(venv) in python3
 
     executed = tmp_path / "explore-executed.ipynb"
-    run(bin_dir / "jupyter", "nbconvert", "--to", "notebook", "--execute", APP_NOTEBOOK,
-        "--output", executed, "--ExecutePreprocessor.timeout=300",
-        "--ExecutePreprocessor.kernel_name=python3", timeout=900)
+    run(
+        bin_dir / "jupyter",
+        "nbconvert",
+        "--to",
+        "notebook",
+        "--execute",
+        APP_NOTEBOOK,
+        "--output",
+        executed,
+        "--ExecutePreprocessor.timeout=300",
+        "--ExecutePreprocessor.kernel_name=python3",
+        timeout=900,
+    )
     notebook = json.loads(executed.read_text(encoding="utf-8"))
-    errors = [out for cell in notebook["cells"] for out in cell.get("outputs", [])
-              if out.get("output_type") == "error"]
+    errors = [
+        out
+        for cell in notebook["cells"]
+        for out in cell.get("outputs", [])
+        if out.get("output_type") == "error"
+    ]
     assert errors == []
     assert any(cell.get("outputs") for cell in notebook["cells"] if cell["cell_type"] == "code")

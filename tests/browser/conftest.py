@@ -51,8 +51,10 @@ def chromium_browser() -> Iterator[Any]:
     """One headless Chromium for the whole session."""
     path = chromium_path()
     if path is None:
-        reason = ("Chromium not found (apt-get install chromium, or set HAIRTRIGGER_CHROMIUM "
-                  "to the binary)")
+        reason = (
+            "Chromium not found (apt-get install chromium, or set HAIRTRIGGER_CHROMIUM "
+            "to the binary)"
+        )
         if os.environ.get("HAIRTRIGGER_REQUIRE_BROWSER") == "1":
             pytest.fail(reason)
         pytest.skip(reason)

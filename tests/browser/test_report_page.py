@@ -15,20 +15,39 @@ from hairtrigger.io.snapshot import Snapshot, dumps_snapshot, loads_snapshot
 pytestmark = pytest.mark.browser
 
 # Invented example cycles: a sharp switch with scarce enzymes, and the same pair overexpressed.
-SHARP = Cycle(substrate_total=2.0, kinase_total=0.05, kinase_kcat=5.0, kinase_km=0.1,
-              kinase_kon=100.0, phosphatase_total=0.1, phosphatase_kcat=2.0,
-              phosphatase_km=0.08, phosphatase_kon=100.0)
+SHARP = Cycle(
+    substrate_total=2.0,
+    kinase_total=0.05,
+    kinase_kcat=5.0,
+    kinase_km=0.1,
+    kinase_kon=100.0,
+    phosphatase_total=0.1,
+    phosphatase_kcat=2.0,
+    phosphatase_km=0.08,
+    phosphatase_kon=100.0,
+)
 SNAPSHOTS = [
-    Snapshot(cycle=SHARP, model="quasi_steady", readout="total_modified",
-             title="Scaffold-bound switch", notes="Invented example."),
-    Snapshot(cycle=SHARP.replace(kinase_total=1.0, phosphatase_total=1.5), model="mass_action",
-             readout="total_modified", title="Overexpressed enzymes", notes=""),
+    Snapshot(
+        cycle=SHARP,
+        model="quasi_steady",
+        readout="total_modified",
+        title="Scaffold-bound switch",
+        notes="Invented example.",
+    ),
+    Snapshot(
+        cycle=SHARP.replace(kinase_total=1.0, phosphatase_total=1.5),
+        model="mass_action",
+        readout="total_modified",
+        title="Overexpressed enzymes",
+        notes="",
+    ),
 ]
 
 
 @pytest.fixture(scope="module", params=[1, 2], ids=["single", "comparison"])
-def report_file(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory
-                ) -> tuple[Path, list[Snapshot]]:
+def report_file(
+    request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory
+) -> tuple[Path, list[Snapshot]]:
     snapshots = SNAPSHOTS[: request.param]
     path = tmp_path_factory.mktemp("report") / "report.html"
     write_report(snapshots, path, options=ReportOptions(map_points=64))
@@ -53,8 +72,9 @@ def test_report_makes_no_network_request_and_logs_no_error(
     assert log.errors() == []
 
 
-def test_every_figure_renders(offline_page: tuple[Any, Any],
-                              report_file: tuple[Path, list[Snapshot]]) -> None:
+def test_every_figure_renders(
+    offline_page: tuple[Any, Any], report_file: tuple[Path, list[Snapshot]]
+) -> None:
     page, _log = offline_page
     path, snapshots = report_file
     _open(page, path)
@@ -74,7 +94,8 @@ def test_every_figure_renders(offline_page: tuple[Any, Any],
     # must decode to pixels, and the map's image must be shown large
     maps = page.evaluate(
         """async () => {
-            const maps = [...document.querySelectorAll('svg.hairtrigger-figure[data-figure$="-map"]')];
+            const sel = 'svg.hairtrigger-figure[data-figure$="-map"]';
+            const maps = [...document.querySelectorAll(sel)];
             return Promise.all(maps.map(async (svg) => Promise.all(
                 [...svg.querySelectorAll('image')].map(async (el) => {
                     const img = new Image();
@@ -91,14 +112,16 @@ def test_every_figure_renders(offline_page: tuple[Any, Any],
         assert max(shown_w * shown_h for _, _, shown_w, shown_h in images) > 200 * 200
 
 
-def test_embedded_snapshots_load_back_exactly(offline_page: tuple[Any, Any],
-                                              report_file: tuple[Path, list[Snapshot]]) -> None:
+def test_embedded_snapshots_load_back_exactly(
+    offline_page: tuple[Any, Any], report_file: tuple[Path, list[Snapshot]]
+) -> None:
     page, _log = offline_page
     path, snapshots = report_file
     _open(page, path)
     blocks = page.evaluate(
         """() => [...document.querySelectorAll('script[type="application/json"]'
-                  + '.hairtrigger-snapshot')].map(s => [s.textContent, JSON.parse(s.textContent)])"""
+                  + '.hairtrigger-snapshot')]
+              .map(s => [s.textContent, JSON.parse(s.textContent)])"""
     )
     assert len(blocks) == len(snapshots)
     for (text, parsed), original in zip(blocks, snapshots, strict=True):
@@ -106,9 +129,9 @@ def test_embedded_snapshots_load_back_exactly(offline_page: tuple[Any, Any],
         assert dumps_snapshot(loads_snapshot(text)) == dumps_snapshot(original)
 
 
-def test_download_link_saves_the_snapshot(offline_page: tuple[Any, Any],
-                                          report_file: tuple[Path, list[Snapshot]],
-                                          tmp_path: Path) -> None:
+def test_download_link_saves_the_snapshot(
+    offline_page: tuple[Any, Any], report_file: tuple[Path, list[Snapshot]], tmp_path: Path
+) -> None:
     page, log = offline_page
     path, snapshots = report_file
     _open(page, path)
@@ -119,6 +142,7 @@ def test_download_link_saves_the_snapshot(offline_page: tuple[Any, Any],
             links.nth(i).click()
         saved = tmp_path / f"saved-{i}.json"
         info.value.save_as(saved)
-        assert dumps_snapshot(loads_snapshot(saved.read_text(encoding="utf-8"))) == \
-            dumps_snapshot(original)
+        assert dumps_snapshot(loads_snapshot(saved.read_text(encoding="utf-8"))) == dumps_snapshot(
+            original
+        )
     assert log.remote_requests == []

@@ -28,7 +28,7 @@ from hairtrigger.io.report import (
 )
 from hairtrigger.io.snapshot import Snapshot, dumps_snapshot
 
-FIXED = dt.datetime(2024, 5, 6, 7, 8, tzinfo=dt.timezone.utc)
+FIXED = dt.datetime(2024, 5, 6, 7, 8, tzinfo=dt.UTC)
 
 
 @pytest.fixture(scope="module")
@@ -53,15 +53,18 @@ def _figures(document: str) -> list[str]:
 
 # --- what the page contains ---------------------------------------------------------------------
 
-def test_single_report_has_caution_tables_and_three_figures(single_html: str,
-                                                             sharp_snapshot: Snapshot) -> None:
+
+def test_single_report_has_caution_tables_and_three_figures(
+    single_html: str, sharp_snapshot: Snapshot
+) -> None:
     assert single_html.startswith("<!DOCTYPE html>")
     assert CAUTION in single_html
     assert "experimental confirmation" in single_html
     assert _figures(single_html) == ["s1-curve", "s1-timecourse", "s1-map"]
     for key, value in sharp_snapshot.cycle.as_dict().items():
-        assert re.search(rf"<code>{key}</code></td><td>{re.escape(f'{value:.4g}')}</td>",
-                         single_html), key
+        assert re.search(
+            rf"<code>{key}</code></td><td>{re.escape(f'{value:.4g}')}</td>", single_html
+        ), key
     assert "Scaffold-bound switch" in single_html
     assert "Invented example: scarce enzymes" in single_html
 
@@ -87,7 +90,7 @@ def test_unreachable_thresholds_are_shown_as_missing_with_the_reason(
     # the steepness map has undefined cells there too, and its legend says what grey means
     entry = report_module._Entry.build(0, crowded_snapshot, "x", options)
     assert np.isnan(entry.steepness).any()
-    map_svg = document[document.index('data-figure="s1-map"'):]
+    map_svg = document[document.index('data-figure="s1-map"') :]
     map_svg = map_svg[: map_svg.index("</svg>")]
     assert "grey = undefined (target above ceiling)" in map_svg  # aria-label of the figure
     assert re.search(r'<g id="s1-map-legend_\d+"', map_svg)
@@ -95,7 +98,7 @@ def test_unreachable_thresholds_are_shown_as_missing_with_the_reason(
 
 def test_comparison_report_overlays_and_tabulates_side_by_side(pair_html: str) -> None:
     assert _figures(pair_html) == ["compare-curves", "compare-timecourses", "s1-map", "s2-map"]
-    table = pair_html[pair_html.index('<table class="compare-table">'):]
+    table = pair_html[pair_html.index('<table class="compare-table">') :]
     table = table[: table.index("</table>")]
     header = table[: table.index("</tr>")]
     assert "Scaffold-bound switch" in header and "Overexpressed enzymes" in header
@@ -105,7 +108,7 @@ def test_comparison_report_overlays_and_tabulates_side_by_side(pair_html: str) -
     assert {"total kinase E1", "total phosphatase E2", "model"} <= differs
     assert {"total substrate W", "kinase Michaelis constant M1", "readout"} <= same
     # both curves are in the overlay, one legend entry each
-    curves = pair_html[pair_html.index('data-figure="compare-curves"'):]
+    curves = pair_html[pair_html.index('data-figure="compare-curves"') :]
     curves = curves[: curves.index("</svg>")]
     assert len(re.findall(r'<g id="compare-curves-line2d_\d+"', curves)) >= 2
 
@@ -132,8 +135,10 @@ def test_element_ids_are_unique_across_figures(pair_html: str) -> None:
 
 # --- embedded snapshots ------------------------------------------------------------------------
 
-def test_embedded_snapshots_load_back_exactly(pair_html: str, sharp_snapshot: Snapshot,
-                                              crowded_snapshot: Snapshot) -> None:
+
+def test_embedded_snapshots_load_back_exactly(
+    pair_html: str, sharp_snapshot: Snapshot, crowded_snapshot: Snapshot
+) -> None:
     texts = extract_snapshot_texts(pair_html)
     assert [json.loads(t) for t in texts] == [
         json.loads(dumps_snapshot(s)) for s in (sharp_snapshot, crowded_snapshot)
@@ -144,10 +149,13 @@ def test_embedded_snapshots_load_back_exactly(pair_html: str, sharp_snapshot: Sn
     ]
 
 
-def test_hostile_title_cannot_break_out_of_the_json_block(sharp_snapshot: Snapshot,
-                                                          options: ReportOptions) -> None:
+def test_hostile_title_cannot_break_out_of_the_json_block(
+    sharp_snapshot: Snapshot, options: ReportOptions
+) -> None:
     nasty = Snapshot(
-        cycle=sharp_snapshot.cycle, model="quasi_steady", readout="free_modified",
+        cycle=sharp_snapshot.cycle,
+        model="quasi_steady",
+        readout="free_modified",
         title='</script><script>alert("x")</script> & <b>',
         notes="line one\nline two </SCRIPT>",
     )
@@ -158,7 +166,9 @@ def test_hostile_title_cannot_break_out_of_the_json_block(sharp_snapshot: Snapsh
     assert dumps_snapshot(loaded) == dumps_snapshot(nasty)
 
 
-def test_download_link_carries_the_same_snapshot(single_html: str, sharp_snapshot: Snapshot) -> None:
+def test_download_link_carries_the_same_snapshot(
+    single_html: str, sharp_snapshot: Snapshot
+) -> None:
     import base64
 
     (uri,) = re.findall(r'href="data:application/json;base64,([^"]+)" download=', single_html)
@@ -171,13 +181,16 @@ def test_extract_refuses_a_page_without_snapshots() -> None:
 
 
 def test_extract_names_the_bad_block() -> None:
-    page = (f'<script type="application/json" class="{SNAPSHOT_BLOCK_CLASS}">'
-            '{"format": "hairtrigger.snapshot", "version": 1}</script>')
+    page = (
+        f'<script type="application/json" class="{SNAPSHOT_BLOCK_CLASS}">'
+        '{"format": "hairtrigger.snapshot", "version": 1}</script>'
+    )
     with pytest.raises(ValueError, match="embedded snapshot 1"):
         extract_snapshots(page)
 
 
 # --- numbers behind the figures, checked against independent solutions ----------------------------
+
 
 def test_response_curve_matches_goldbeter_koshland_quadratic(sharp_snapshot: Snapshot) -> None:
     # Goldbeter & Koshland 1981, PNAS 78:6840: (1 − r)y² − (1 − r + K1 + r·K2)y + r·K2 = 0,
@@ -214,8 +227,13 @@ def test_mass_action_curve_matches_direct_root_finding(crowded_snapshot: Snapsho
         # reach V2 (balance → +∞), whichever is smaller.
         hi = c.substrate_total
         if c.kinase_kcat * e1 > c.phosphatase_vmax:
-            hi = min(hi, c.kinase_km * c.phosphatase_vmax / (c.kinase_kcat * e1 - c.phosphatase_vmax)
-                     * (1 - 1e-12))
+            hi = min(
+                hi,
+                c.kinase_km
+                * c.phosphatase_vmax
+                / (c.kinase_kcat * e1 - c.phosphatase_vmax)
+                * (1 - 1e-12),
+            )
         a = brentq(balance, 0.0, hi, xtol=1e-15, rtol=1e-13)
         v = c.kinase_kcat * e1 * a / (c.kinase_km + a)
         b = c.phosphatase_km * v / (c.phosphatase_vmax - v)
@@ -237,8 +255,12 @@ def test_half_time_matches_an_independent_integration(sharp_snapshot: Snapshot) 
     def rhs(_t: float, y: np.ndarray) -> np.ndarray:
         b = y[0]
         a = w - b
-        return np.array([after.kinase_vmax * a / (after.kinase_km + a)
-                         - after.phosphatase_vmax * b / (after.phosphatase_km + b)])
+        return np.array(
+            [
+                after.kinase_vmax * a / (after.kinase_km + a)
+                - after.phosphatase_vmax * b / (after.phosphatase_km + b)
+            ]
+        )
 
     b0 = res["readout_value"] * w
     target = 0.5 * (course.before + course.after) * w
@@ -253,11 +275,14 @@ def test_half_time_matches_an_independent_integration(sharp_snapshot: Snapshot) 
     assert course.switch_time is not None and course.switch_time > 0
 
 
-def test_default_step_crosses_the_threshold(sharp_snapshot: Snapshot, options: ReportOptions) -> None:
+def test_default_step_crosses_the_threshold(
+    sharp_snapshot: Snapshot, options: ReportOptions
+) -> None:
     res = evaluate(sharp_snapshot.cycle, "quasi_steady", "total_modified")
     assert res["readout_value"] > 0.5  # the example sits in the "on" state
-    course = report_module._time_course(sharp_snapshot.cycle, "quasi_steady", "total_modified",
-                                        res, options)
+    course = report_module._time_course(
+        sharp_snapshot.cycle, "quasi_steady", "total_modified", res, options
+    )
     # switching off: the kinase is stepped to the amount that gives 10 % of the ceiling
     assert course.after == pytest.approx(0.1, rel=1e-9)
     assert course.readout[-1] == pytest.approx(course.after, abs=2e-3)  # the window settles
@@ -275,6 +300,7 @@ def test_map_values_come_from_steepness_map(sharp_snapshot: Snapshot) -> None:
 
 
 # --- options and errors -----------------------------------------------------------------------
+
 
 @pytest.mark.parametrize(
     ("kwargs", "match"),
@@ -301,14 +327,16 @@ def test_no_snapshot_is_an_error() -> None:
         render_report([{"cycle": {}}])  # type: ignore[list-item]
 
 
-def test_missing_matplotlib_gives_the_install_command(monkeypatch: pytest.MonkeyPatch,
-                                                      sharp_snapshot: Snapshot) -> None:
+def test_missing_matplotlib_gives_the_install_command(
+    monkeypatch: pytest.MonkeyPatch, sharp_snapshot: Snapshot
+) -> None:
     monkeypatch.setitem(sys.modules, "matplotlib", None)
     with pytest.raises(ReportDependencyError, match=r"hairtrigger\[report\]"):
         render_report([sharp_snapshot])
 
 
 # --- writing ----------------------------------------------------------------------------------
+
 
 def test_write_report_refuses_to_overwrite_and_replaces_with_overwrite(
     tmp_path: Path, sharp_snapshot: Snapshot, options: ReportOptions
@@ -323,8 +351,9 @@ def test_write_report_refuses_to_overwrite_and_replaces_with_overwrite(
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.html"]  # no temp files left
 
 
-def test_failed_render_writes_nothing(tmp_path: Path, sharp_snapshot: Snapshot,
-                                      monkeypatch: pytest.MonkeyPatch) -> None:
+def test_failed_render_writes_nothing(
+    tmp_path: Path, sharp_snapshot: Snapshot, monkeypatch: pytest.MonkeyPatch
+) -> None:
     out = tmp_path / "report.html"
     out.write_text("previous report", encoding="utf-8")
 
@@ -338,7 +367,8 @@ def test_failed_render_writes_nothing(tmp_path: Path, sharp_snapshot: Snapshot,
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.html"]
 
 
-def test_write_into_missing_folder_is_a_clear_error(tmp_path: Path, sharp_snapshot: Snapshot,
-                                                    options: ReportOptions) -> None:
+def test_write_into_missing_folder_is_a_clear_error(
+    tmp_path: Path, sharp_snapshot: Snapshot, options: ReportOptions
+) -> None:
     with pytest.raises(FileNotFoundError, match="does not exist"):
         write_report([sharp_snapshot], tmp_path / "nowhere" / "r.html", options=options)

@@ -65,7 +65,11 @@ def app_notebook(kernel_name: str = KERNEL_NAME) -> dict[str, Any]:
             }
         ],
         "metadata": {
-            "kernelspec": {"display_name": "hairtrigger", "language": "python", "name": kernel_name},
+            "kernelspec": {
+                "display_name": "hairtrigger",
+                "language": "python",
+                "name": kernel_name,
+            },
             "language_info": {"name": "python"},
         },
         "nbformat": 4,
@@ -102,7 +106,10 @@ def free_port(host: str = "127.0.0.1") -> int:
 def voila_command(notebook: Path, port: int) -> list[str]:
     """The Voila command line serving `notebook` on 127.0.0.1:`port`, tracebacks shown."""
     return [
-        sys.executable, "-m", "voila", str(notebook),
+        sys.executable,
+        "-m",
+        "voila",
+        str(notebook),
         "--no-browser",
         f"--port={port}",
         "--Voila.ip=127.0.0.1",
@@ -136,10 +143,12 @@ def register(subparsers: Any) -> None:
             "(pip install 'hairtrigger[app]'). Predictions need experimental confirmation."
         ),
     )
-    parser.add_argument("snapshot", nargs="?", metavar="SNAPSHOT",
-                        help="snapshot file to start from (JSON)")
-    parser.add_argument("--port", type=_check_port, metavar="P",
-                        help="port on 127.0.0.1 (default: a free one)")
+    parser.add_argument(
+        "snapshot", nargs="?", metavar="SNAPSHOT", help="snapshot file to start from (JSON)"
+    )
+    parser.add_argument(
+        "--port", type=_check_port, metavar="P", help="port on 127.0.0.1 (default: a free one)"
+    )
     parser.add_argument("--open", action="store_true", help="open the address in a web browser")
     parser.add_argument("--verbose", action="store_true", help="pass on all of Voila's log lines")
     parser.set_defaults(func=run)
@@ -198,8 +207,12 @@ class VoilaServer:
     def start(self, timeout: float = STARTUP_TIMEOUT) -> str:
         """Start Voila and wait until it reports its address; return the address."""
         self.process = subprocess.Popen(  # noqa: S603 - our own interpreter and arguments
-            self.command, env=self.env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
-            text=True, start_new_session=True,  # its kernels join its group, stopped at the end
+            self.command,
+            env=self.env,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.STDOUT,
+            text=True,
+            start_new_session=True,  # its kernels join its group, stopped at the end
         )
         self.relay = _LogRelay(self.process.stdout, self.verbose)  # type: ignore[arg-type]
         self.relay.start()
@@ -244,8 +257,9 @@ class VoilaServer:
         self.stop()
 
 
-def app_environment(folder: Path, snapshot: Path | None = None,
-                    base: dict[str, str] | None = None) -> dict[str, str]:
+def app_environment(
+    folder: Path, snapshot: Path | None = None, base: dict[str, str] | None = None
+) -> dict[str, str]:
     """Environment for Voila serving the app folder `folder` (see `write_app_folder`)."""
     env = dict(os.environ if base is None else base)
     if snapshot is not None:
@@ -280,8 +294,9 @@ def run(args: argparse.Namespace) -> int:
     with tempfile.TemporaryDirectory(prefix="hairtrigger-app-") as tmp:
         folder = Path(tmp)
         notebook = write_app_folder(folder)
-        server = VoilaServer(voila_command(notebook, port), app_environment(folder, snapshot),
-                             verbose=args.verbose)
+        server = VoilaServer(
+            voila_command(notebook, port), app_environment(folder, snapshot), verbose=args.verbose
+        )
         previous = signal.signal(signal.SIGTERM, _raise_interrupt)
         try:
             address = server.start()

@@ -39,19 +39,38 @@ def register(subparsers: Any) -> None:
         ),
     )
     parser.add_argument("files", nargs="+", metavar="FILE", help="snapshot files (JSON)")
-    parser.add_argument("-o", "--output", required=True, metavar="OUT.html",
-                        help="report file to write")
+    parser.add_argument(
+        "-o", "--output", required=True, metavar="OUT.html", help="report file to write"
+    )
     parser.add_argument("--force", action="store_true", help="replace OUT.html if it exists")
     parser.add_argument("--title", help="page title (default: the snapshot's title)")
-    parser.add_argument("--map-measure", choices=MAP_MEASURES, default="hill_coefficient",
-                        help="steepness measure of the map (default: %(default)s)")
-    parser.add_argument("--map-points", type=int, default=96, metavar="N",
-                        help="grid points per axis of the steepness map (default: %(default)s)")
-    parser.add_argument("--step", type=_step, action="append", metavar="KEY=VALUE",
-                        help="time-course step applied at t = 0 to every snapshot (repeatable); "
-                        "default: the kinase amount is stepped across the threshold")
-    parser.add_argument("--t-end", type=float, metavar="T",
-                        help="time-course end in s (default: long enough to settle)")
+    parser.add_argument(
+        "--map-measure",
+        choices=MAP_MEASURES,
+        default="hill_coefficient",
+        help="steepness measure of the map (default: %(default)s)",
+    )
+    parser.add_argument(
+        "--map-points",
+        type=int,
+        default=96,
+        metavar="N",
+        help="grid points per axis of the steepness map (default: %(default)s)",
+    )
+    parser.add_argument(
+        "--step",
+        type=_step,
+        action="append",
+        metavar="KEY=VALUE",
+        help="time-course step applied at t = 0 to every snapshot (repeatable); "
+        "default: the kinase amount is stepped across the threshold",
+    )
+    parser.add_argument(
+        "--t-end",
+        type=float,
+        metavar="T",
+        help="time-course end in s (default: long enough to settle)",
+    )
     parser.set_defaults(func=run)
 
 
@@ -81,6 +100,8 @@ def run(args: argparse.Namespace) -> int:
     except FileExistsError as exc:
         raise UserError(str(exc)) from exc
     size = path.stat().st_size
-    print(f"wrote {path} ({size:,} bytes; {len(snapshots)} snapshot"
-          f"{'s' if len(snapshots) != 1 else ''} embedded)")
+    print(
+        f"wrote {path} ({size:,} bytes; {len(snapshots)} snapshot"
+        f"{'s' if len(snapshots) != 1 else ''} embedded)"
+    )
     return 0

@@ -89,7 +89,14 @@ RESULT_LABELS: Final[dict[str, str]] = {
 
 #: Line colours for snapshots (cycled), chosen for contrast on white and for colour-blind readers.
 PALETTE: Final[tuple[str, ...]] = (
-    "#1b6ca8", "#d1495b", "#2e8b57", "#e09f3e", "#6a4c93", "#3d3d3d", "#0fa3b1", "#9c6644",
+    "#1b6ca8",
+    "#d1495b",
+    "#2e8b57",
+    "#e09f3e",
+    "#6a4c93",
+    "#3d3d3d",
+    "#0fa3b1",
+    "#9c6644",
 )
 
 
@@ -143,7 +150,8 @@ class ReportOptions:
                 msg = f"`{name}` must be an integer between 8 and 2048; got {value!r}"
                 raise ValueError(msg)
         if self.map_measure not in MAP_MEASURES:
-            msg = f"`map_measure` must be one of {', '.join(map(repr, MAP_MEASURES))}; got {self.map_measure!r}"
+            choices = ", ".join(map(repr, MAP_MEASURES))
+            msg = f"`map_measure` must be one of {choices}; got {self.map_measure!r}"
             raise ValueError(msg)
         lo, hi = self.map_decades
         if not (math.isfinite(lo) and math.isfinite(hi) and lo < hi):
@@ -163,6 +171,7 @@ class ReportOptions:
 
 
 # --- public API ------------------------------------------------------------------------------
+
 
 def render_report(
     snapshots: Sequence[Snapshot] | Snapshot, options: ReportOptions | None = None
@@ -191,8 +200,10 @@ def render_report(
     items = _as_list(snapshots)
     options = options or ReportOptions()
     _require_matplotlib()
-    entries = [_Entry.build(i, snap, label, options) for i, (snap, label) in
-               enumerate(zip(items, _labels(items), strict=True))]
+    entries = [
+        _Entry.build(i, snap, label, options)
+        for i, (snap, label) in enumerate(zip(items, _labels(items), strict=True))
+    ]
     return _Page(entries, options).html()
 
 
@@ -305,6 +316,7 @@ def extract_snapshots(document: str) -> list[Snapshot]:
 
 # --- helpers: inputs --------------------------------------------------------------------------
 
+
 def _as_list(snapshots: Sequence[Snapshot] | Snapshot) -> list[Snapshot]:
     items = [snapshots] if isinstance(snapshots, Snapshot) else list(snapshots)
     if not items:
@@ -341,6 +353,7 @@ def _require_matplotlib() -> None:
 
 
 # --- computation (numbers first, drawing after) -------------------------------------------------
+
 
 @dataclass(frozen=True)
 class _TimeCourse:
@@ -384,12 +397,23 @@ class _Entry:
             cycle, k_axis[None, :] * w, k_axis[:, None] * w, model, readout, options.map_measure
         )
         course = _time_course(cycle, model, readout, results, options)
-        return cls(index, snap, label, PALETTE[index % len(PALETTE)], results, ratios, curve,
-                   k_axis, steepness, course)
+        return cls(
+            index,
+            snap,
+            label,
+            PALETTE[index % len(PALETTE)],
+            results,
+            ratios,
+            curve,
+            k_axis,
+            steepness,
+            course,
+        )
 
 
-def _ratio_axis(results: Sequence[Mapping[str, Any]], current: Sequence[float],
-                points: int) -> np.ndarray:
+def _ratio_axis(
+    results: Sequence[Mapping[str, Any]], current: Sequence[float], points: int
+) -> np.ndarray:
     """Activity ratios spanning every curve's switch (r10 to r90) and operating point, ×/÷ 10."""
     lows, highs = [], []
     for res, r in zip(results, current, strict=True):
@@ -447,8 +471,9 @@ def _crossing(t: np.ndarray, y: np.ndarray, level: float) -> float | None:
     return float(t[i - 1] + frac * (t[i] - t[i - 1]))
 
 
-def _time_course(cycle: Cycle, model: str, readout: str, results: Mapping[str, Any],
-                 options: ReportOptions) -> _TimeCourse:
+def _time_course(
+    cycle: Cycle, model: str, readout: str, results: Mapping[str, Any], options: ReportOptions
+) -> _TimeCourse:
     steps = dict(options.steps) if options.steps else _default_steps(cycle, results)
     after_cycle = cycle.replace(**steps)
     t_end = options.t_end or _default_t_end(cycle, after_cycle)
@@ -492,16 +517,21 @@ def _svg(fig: Figure, name: str, description: str) -> str:
     with matplotlib.rc_context({"svg.fonttype": "path", "svg.hashsalt": name}):
         fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None})
     text = buffer.getvalue()
-    text = text[text.index("<svg"):]
+    text = text[text.index("<svg") :]
     ids = set(_SVG_ID.findall(text))
     if ids:
-        pattern = re.compile(r'(\bid="|#)(' + "|".join(re.escape(i) for i in sorted(ids, key=len,
-                             reverse=True)) + r')(?=["\)])')
+        pattern = re.compile(
+            r'(\bid="|#)('
+            + "|".join(re.escape(i) for i in sorted(ids, key=len, reverse=True))
+            + r')(?=["\)])'
+        )
         text = pattern.sub(lambda m: f"{m.group(1)}{name}-{m.group(2)}", text)
     label = html.escape(description, quote=True)
     text = text.replace(
-        "<svg ", f'<svg class="{FIGURE_CLASS}" data-figure="{name}" role="img" '
-        f'aria-label="{label}" ', 1)
+        "<svg ",
+        f'<svg class="{FIGURE_CLASS}" data-figure="{name}" role="img" aria-label="{label}" ',
+        1,
+    )
     return text
 
 
@@ -527,26 +557,38 @@ def response_curves_figure(entries: Sequence[_Entry], name: str) -> str:
     for e in entries:
         ax.plot(e.ratios, e.curve, color=e.colour, linewidth=1.8, label=e.label)
         r = e.snapshot.cycle.activity_ratio
-        ax.plot([r], [e.results["readout_value"]], marker="o", color=e.colour, markersize=6,
-                markeredgecolor="white", zorder=5)
+        ax.plot(
+            [r],
+            [e.results["readout_value"]],
+            marker="o",
+            color=e.colour,
+            markersize=6,
+            markeredgecolor="white",
+            zorder=5,
+        )
         ceiling = e.results["readout_ceiling"]
         if ceiling is not None and ceiling < 0.999:
             ax.axhline(ceiling, color=e.colour, linestyle=":", linewidth=1.0)
         for key in ("activity_ratio_10", "activity_ratio_50", "activity_ratio_90"):
             if e.results[key] is not None:
-                ax.axvline(e.results[key], color=e.colour, linestyle="--", linewidth=0.6,
-                           alpha=0.6)
+                ax.axvline(e.results[key], color=e.colour, linestyle="--", linewidth=0.6, alpha=0.6)
     ax.set_xscale("log")
     ax.set_ylim(-0.02, 1.02)
     ax.set_xlabel("activity ratio r = V1/V2 (kinase amount varied)")
     readouts = {e.snapshot.readout for e in entries}
-    ax.set_ylabel(READOUT_LABELS[readouts.pop()] if len(readouts) == 1 else "readout (fraction of W)")
+    ax.set_ylabel(
+        READOUT_LABELS[readouts.pop()] if len(readouts) == 1 else "readout (fraction of W)"
+    )
     if len(entries) > 1:
         ax.legend(frameon=False, fontsize=8, loc="upper left")
     title = "Steady-state response" + (" (compared)" if len(entries) > 1 else "")
     ax.set_title(title, fontsize=10, loc="left")
-    return _svg(fig, name, f"{title}: readout against activity ratio; dot = operating point, "
-                "dashed = r10, r50, r90, dotted = readout ceiling")
+    return _svg(
+        fig,
+        name,
+        f"{title}: readout against activity ratio; dot = operating point, "
+        "dashed = r10, r50, r90, dotted = readout ceiling",
+    )
 
 
 def time_courses_figure(entries: Sequence[_Entry], name: str) -> str:
@@ -559,8 +601,15 @@ def time_courses_figure(entries: Sequence[_Entry], name: str) -> str:
         ax.plot(c.t, c.readout, color=e.colour, linewidth=1.8, label=e.label)
         ax.axhline(c.after, color=e.colour, linestyle=":", linewidth=1.0)
         if c.half_time is not None:
-            ax.plot([c.half_time], [0.5 * (c.before + c.after)], marker="o", color=e.colour,
-                    markersize=5, markeredgecolor="white", zorder=5)
+            ax.plot(
+                [c.half_time],
+                [0.5 * (c.before + c.after)],
+                marker="o",
+                color=e.colour,
+                markersize=5,
+                markeredgecolor="white",
+                zorder=5,
+            )
     ax.set_ylim(-0.02, 1.02)
     ends = [float(e.course.t[-1]) for e in entries]
     if max(ends) > 10.0 * min(ends):
@@ -572,13 +621,16 @@ def time_courses_figure(entries: Sequence[_Entry], name: str) -> str:
         ax.set_xlim(0.0, max(ends))
         ax.set_xlabel("time after the step (s)")
     readouts = {e.snapshot.readout for e in entries}
-    ax.set_ylabel(READOUT_LABELS[readouts.pop()] if len(readouts) == 1 else "readout (fraction of W)")
+    ax.set_ylabel(
+        READOUT_LABELS[readouts.pop()] if len(readouts) == 1 else "readout (fraction of W)"
+    )
     if len(entries) > 1:
         ax.legend(frameon=False, fontsize=8, loc="best")
     title = "Time course after the step" + (" (compared)" if len(entries) > 1 else "")
     ax.set_title(title, fontsize=10, loc="left")
-    return _svg(fig, name, f"{title}: readout against time; dot = half-time, dotted = new "
-                "steady state")
+    return _svg(
+        fig, name, f"{title}: readout against time; dot = half-time, dotted = new steady state"
+    )
 
 
 def steepness_map_figure(entry: _Entry, measure: str, name: str) -> str:
@@ -625,15 +677,26 @@ def steepness_map_figure(entry: _Entry, measure: str, name: str) -> str:
     bar = fig.colorbar(mesh, ax=ax, pad=0.02)
     bar.set_label(MEASURE_LABELS[measure], fontsize=8)
     if not np.all(np.isfinite(entry.steepness)):
-        ax.legend(handles=[Patch(color="#c8c8c8", label="undefined (target above ceiling)")],
-                  loc="lower left", fontsize=7, framealpha=0.85)
+        ax.legend(
+            handles=[Patch(color="#c8c8c8", label="undefined (target above ceiling)")],
+            loc="lower left",
+            fontsize=7,
+            framealpha=0.85,
+        )
     ax.set_title(f"Steepness map: {entry.label}", fontsize=10, loc="left")
-    grey = "" if np.all(np.isfinite(entry.steepness)) else "; grey = undefined (target above ceiling)"
-    return _svg(fig, name, f"Steepness map of {entry.label}: {MEASURE_LABELS[measure]} over "
-                f"K1 and K2; red cross = this snapshot{grey}")
+    grey = (
+        "" if np.all(np.isfinite(entry.steepness)) else "; grey = undefined (target above ceiling)"
+    )
+    return _svg(
+        fig,
+        name,
+        f"Steepness map of {entry.label}: {MEASURE_LABELS[measure]} over "
+        f"K1 and K2; red cross = this snapshot{grey}",
+    )
 
 
 # --- HTML ---------------------------------------------------------------------------------------
+
 
 def _fmt(value: Any) -> str:
     if value is None:
@@ -666,7 +729,7 @@ class _Page:
             title = entries[0].label
         else:
             title = f"Comparison of {len(entries)} snapshots"
-        generated = options.generated or _dt.datetime.now(_dt.timezone.utc)
+        generated = options.generated or _dt.datetime.now(_dt.UTC)
         parts = [
             "<!DOCTYPE html>",
             '<html lang="en">',
@@ -699,8 +762,11 @@ class _Page:
     def _comparison(self) -> str:
         entries = self.entries
         rows = []
-        head = "".join(f'<th scope="col"><span class="swatch" style="background:{e.colour}">'
-                       f"</span>{html.escape(e.label)}</th>" for e in entries)
+        head = "".join(
+            f'<th scope="col"><span class="swatch" style="background:{e.colour}">'
+            f"</span>{html.escape(e.label)}</th>"
+            for e in entries
+        )
         rows.append(f"<tr><th scope='col'>quantity</th>{head}</tr>")
 
         def row(label: str, values: list[Any], unit: str = "") -> None:
@@ -708,13 +774,18 @@ class _Page:
             cls = ' class="differs"' if differs else ""
             unit_html = f' <span class="unit">{html.escape(unit)}</span>' if unit else ""
             cells = "".join(f"<td>{_fmt(v)}</td>" for v in values)
-            rows.append(f"<tr{cls}><th scope='row'>{html.escape(label)}{unit_html}</th>{cells}</tr>")
+            rows.append(
+                f"<tr{cls}><th scope='row'>{html.escape(label)}{unit_html}</th>{cells}</tr>"
+            )
 
         row("model", [e.snapshot.model for e in entries])
         row("readout", [e.snapshot.readout for e in entries])
         for key in CYCLE_KEYS:
-            row(CYCLE_DESCRIPTIONS[key], [e.snapshot.cycle.as_dict()[key] for e in entries],
-                CYCLE_UNITS[key])
+            row(
+                CYCLE_DESCRIPTIONS[key],
+                [e.snapshot.cycle.as_dict()[key] for e in entries],
+                CYCLE_UNITS[key],
+            )
         for key, label in RESULT_LABELS.items():
             row(label, [e.results[key] for e in entries])
         for key in THRESHOLD_KEYS:
@@ -726,11 +797,11 @@ class _Page:
         courses = time_courses_figure(entries, "compare-timecourses")
         return (
             '<section class="comparison" id="comparison">\n<h2>Comparison</h2>\n'
-            '<p>Rows whose values differ between snapshots are highlighted. Each time course '
+            "<p>Rows whose values differ between snapshots are highlighted. Each time course "
             "starts from its own snapshot's steady state; the steps are listed in the snapshot "
             "sections below.</p>\n"
             f'<div class="table-wrap"><table class="compare-table">\n{table}\n</table></div>\n'
-            f'<figure>{curves}<figcaption>Steady-state response of every snapshot (dot: '
+            f"<figure>{curves}<figcaption>Steady-state response of every snapshot (dot: "
             "operating point; dashed: r10, r50, r90; dotted: readout ceiling).</figcaption>"
             "</figure>\n"
             f"<figure>{courses}<figcaption>Readout after each snapshot's step (dot: half-time; "
@@ -750,30 +821,38 @@ class _Page:
         res = e.results
         results_rows = "\n".join(
             f"<tr><th scope='row'>{html.escape(label)}</th><td><code>{key}</code></td>"
-            f"<td>{_fmt(res[key])}</td><td>{_fmt(res['relative'][key]) if key in THRESHOLD_KEYS else ''}</td></tr>"
+            f"<td>{_fmt(res[key])}</td>"
+            f"<td>{_fmt(res['relative'][key]) if key in THRESHOLD_KEYS else ''}</td></tr>"
             for key, label in RESULT_LABELS.items()
         )
         warnings = "".join(f"<li>{html.escape(w)}</li>" for w in res["warnings"])
         warnings_html = f'<ul class="warnings">{warnings}</ul>' if warnings else ""
         c = e.course
-        steps = ", ".join(f"<code>{k}</code> → {_fmt(v)} {html.escape(CYCLE_UNITS[k])}"
-                          for k, v in c.steps.items())
+        steps = ", ".join(
+            f"<code>{k}</code> → {_fmt(v)} {html.escape(CYCLE_UNITS[k])}"
+            for k, v in c.steps.items()
+        )
         course_facts = (
             f"<p>Step at t = 0: {steps}, starting from the steady state of this snapshot "
             f"(readout {_fmt(c.before)}; after the step it settles at {_fmt(c.after)}). "
             f"Half-time {_fmt(c.half_time)} s; 10→90 % switching time {_fmt(c.switch_time)} s."
-            + (f" Note: {html.escape(c.message)}." if c.message else "") + "</p>"
+            + (f" Note: {html.escape(c.message)}." if c.message else "")
+            + "</p>"
         )
         figures = []
         if single:
-            figures.append(f'<figure>{response_curves_figure([e], f"s{n}-curve")}<figcaption>'
-                           "Steady-state response (dot: operating point; dashed: r10, r50, r90; "
-                           "dotted: readout ceiling).</figcaption></figure>")
-            figures.append(f'<figure>{time_courses_figure([e], f"s{n}-timecourse")}'
-                           "<figcaption>Readout after the step (dot: half-time; dotted: new "
-                           "steady state).</figcaption></figure>")
+            figures.append(
+                f"<figure>{response_curves_figure([e], f's{n}-curve')}<figcaption>"
+                "Steady-state response (dot: operating point; dashed: r10, r50, r90; "
+                "dotted: readout ceiling).</figcaption></figure>"
+            )
+            figures.append(
+                f"<figure>{time_courses_figure([e], f's{n}-timecourse')}"
+                "<figcaption>Readout after the step (dot: half-time; dotted: new "
+                "steady state).</figcaption></figure>"
+            )
         figures.append(
-            f'<figure>{steepness_map_figure(e, self.options.map_measure, f"s{n}-map")}'
+            f"<figure>{steepness_map_figure(e, self.options.map_measure, f's{n}-map')}"
             f"<figcaption>{html.escape(MEASURE_LABELS[self.options.map_measure])} over the two "
             "Michaelis constants (relative to total substrate), every other parameter as in this "
             f"snapshot, model {html.escape(snap.model)}, readout {html.escape(snap.readout)}. "
@@ -784,40 +863,46 @@ class _Page:
         import base64
 
         data_uri = "data:application/json;base64," + base64.b64encode(
-            json_text.encode("utf-8")).decode("ascii")
-        return "\n".join([
-            f'<section class="snapshot" id="snapshot-{n}">',
-            f'<h2><span class="swatch" style="background:{e.colour}"></span>{html.escape(e.label)}</h2>',
-            f'<p class="notes">{html.escape(notes)}</p>' if notes else "",
-            f"<p>Model: {html.escape(MODEL_LABELS.get(snap.model, snap.model))}. Readout: "
-            f"{html.escape(READOUT_LABELS.get(snap.readout, snap.readout))}. "
-            f"Created {html.escape(str(getattr(snap, 'created', '') or 'unknown'))}.</p>",
-            '<div class="tables">',
-            '<table class="params"><caption>Parameters</caption>',
-            "<tr><th scope='col'>parameter</th><th scope='col'>key</th>"
-            "<th scope='col'>value</th><th scope='col'>unit</th></tr>",
-            params,
-            "</table>",
-            '<table class="results"><caption>Results (steady state)</caption>',
-            "<tr><th scope='col'>quantity</th><th scope='col'>key</th>"
-            "<th scope='col'>absolute</th><th scope='col'>relative to ceiling</th></tr>",
-            results_rows,
-            "</table>",
-            "</div>",
-            "<p class='explain'>Absolute thresholds take the readout as a fraction of total "
-            "substrate; relative ones as a fraction of the readout ceiling (the most any kinase "
-            "amount can reach). The input is the kinase amount, reported as r = V1/V2.</p>",
-            warnings_html,
-            '<h3>Time course</h3>',
-            course_facts,
-            *figures,
-            f'<p class="download"><a href="{data_uri}" download="{html.escape(filename)}.json">'
-            "Download this snapshot (JSON)</a> — open it in hairtrigger to continue from here.</p>",
-            f'<script type="application/json" class="{SNAPSHOT_BLOCK_CLASS}" '
-            f'id="snapshot-{n}-json" data-label="{html.escape(e.label, quote=True)}">'
-            f"{_embedded_json(snap)}</script>",
-            "</section>",
-        ])
+            json_text.encode("utf-8")
+        ).decode("ascii")
+        return "\n".join(
+            [
+                f'<section class="snapshot" id="snapshot-{n}">',
+                f'<h2><span class="swatch" style="background:{e.colour}"></span>'
+                f"{html.escape(e.label)}</h2>",
+                f'<p class="notes">{html.escape(notes)}</p>' if notes else "",
+                f"<p>Model: {html.escape(MODEL_LABELS.get(snap.model, snap.model))}. Readout: "
+                f"{html.escape(READOUT_LABELS.get(snap.readout, snap.readout))}. "
+                f"Created {html.escape(str(getattr(snap, 'created', '') or 'unknown'))}.</p>",
+                '<div class="tables">',
+                '<table class="params"><caption>Parameters</caption>',
+                "<tr><th scope='col'>parameter</th><th scope='col'>key</th>"
+                "<th scope='col'>value</th><th scope='col'>unit</th></tr>",
+                params,
+                "</table>",
+                '<table class="results"><caption>Results (steady state)</caption>',
+                "<tr><th scope='col'>quantity</th><th scope='col'>key</th>"
+                "<th scope='col'>absolute</th><th scope='col'>relative to ceiling</th></tr>",
+                results_rows,
+                "</table>",
+                "</div>",
+                "<p class='explain'>Absolute thresholds take the readout as a fraction of total "
+                "substrate; relative ones as a fraction of the readout ceiling (the most any "
+                "kinase amount can reach). The input is the kinase amount, reported as "
+                "r = V1/V2.</p>",
+                warnings_html,
+                "<h3>Time course</h3>",
+                course_facts,
+                *figures,
+                f'<p class="download"><a href="{data_uri}" download="{html.escape(filename)}.json">'
+                "Download this snapshot (JSON)</a> — open it in hairtrigger to continue from "
+                "here.</p>",
+                f'<script type="application/json" class="{SNAPSHOT_BLOCK_CLASS}" '
+                f'id="snapshot-{n}-json" data-label="{html.escape(e.label, quote=True)}">'
+                f"{_embedded_json(snap)}</script>",
+                "</section>",
+            ]
+        )
 
 
 class _SnapshotBlockParser(HTMLParser):

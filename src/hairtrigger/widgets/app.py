@@ -45,7 +45,8 @@ class AppErrorPanel(w.HTML):
         del self.messages[_MAX_SHOWN:]
         items = "".join(
             f"<details><summary>{html.escape(s)}</summary><pre>{html.escape(d)}</pre></details>"
-            if d else f"<div>{html.escape(s)}</div>"
+            if d
+            else f"<div>{html.escape(s)}</div>"
             for s, d in self.messages
         )
         self.value = (
@@ -105,8 +106,10 @@ def _attach(panel: AppErrorPanel) -> None:
 
         etype, value, tb = sys.exc_info()
         if value is not None:
-            panel.show(f"{etype.__name__ if etype else 'Error'}: {value}",
-                       "".join(traceback.format_exception(etype, value, tb)))
+            panel.show(
+                f"{etype.__name__ if etype else 'Error'}: {value}",
+                "".join(traceback.format_exception(etype, value, tb)),
+            )
         return original(*args, **kwargs)
 
     showtraceback.__wrapped__ = original  # type: ignore[attr-defined]
