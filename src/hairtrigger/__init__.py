@@ -5,13 +5,17 @@ package loads numpy and scipy only; the widget layer lives in `hairtrigger.widge
 """
 
 from .core import CYCLE_KEYS, Cycle, evaluate, steepness_map
+from .io import Snapshot, load_snapshot, save_snapshot
 
 __version__ = "0.1.0"
 
 __all__ = [
     "CYCLE_KEYS",
     "Cycle",
+    "Snapshot",
     "__version__",
     "evaluate",
+    "load_snapshot",
+    "save_snapshot",
     "steepness_map",
 ]

@@ -12,7 +12,7 @@ import argparse
 import importlib
 import sys
 from collections.abc import Sequence
-from typing import Final
+from typing import Final, NoReturn
 
 from . import __version__
 from .commands import UserError
@@ -26,9 +26,20 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
 )
 
 
+class _OneLineErrorParser(argparse.ArgumentParser):
+    """Argument parser whose usage errors are one line on standard error (exit status 2).
+
+    Sub-command parsers inherit the class (``add_subparsers`` uses the parent's type).
+    """
+
+    def error(self, message: str) -> NoReturn:
+        """Print ``PROG: error: MESSAGE`` and a pointer to ``--help`` on one line, exit 2."""
+        self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Return the top-level parser with every sub-command registered."""
-    parser = argparse.ArgumentParser(
+    parser = _OneLineErrorParser(
         prog="hairtrigger",
         description=(
             "Analyse covalent-modification switches: steady states, steepness, thresholds and "
