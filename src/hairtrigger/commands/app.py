@@ -144,7 +144,10 @@ def register(subparsers: Any) -> None:
         ),
     )
     parser.add_argument(
-        "snapshot", nargs="?", metavar="SNAPSHOT", help="snapshot file to start from (JSON)"
+        "snapshot",
+        nargs="?",
+        metavar="SNAPSHOT",
+        help="snapshot file to start from (JSON), or example:NAME for a bundled example",
     )
     parser.add_argument(
         "--port", type=_check_port, metavar="P", help="port on 127.0.0.1 (default: a free one)"
@@ -282,14 +285,14 @@ def run(args: argparse.Namespace) -> int:
         raise UserError(msg)
     snapshot = None
     if args.snapshot:
-        from ..io.snapshot import load_snapshot
+        from ..io.examples import example_path
+        from ._files import EXAMPLE_PREFIX, read_snapshot
 
-        snapshot = Path(args.snapshot)
-        try:
-            load_snapshot(snapshot)
-        except (ValueError, OSError) as exc:
-            msg = f"{args.snapshot}: {exc}"
-            raise UserError(msg) from exc
+        read_snapshot(args.snapshot)  # refuse a bad file here, in one line, before serving
+        if args.snapshot.startswith(EXAMPLE_PREFIX):
+            snapshot = Path(example_path(args.snapshot.removeprefix(EXAMPLE_PREFIX)))
+        else:
+            snapshot = Path(args.snapshot)
     port = args.port or free_port()
     with tempfile.TemporaryDirectory(prefix="hairtrigger-app-") as tmp:
         folder = Path(tmp)

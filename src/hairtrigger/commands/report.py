@@ -38,7 +38,12 @@ def register(subparsers: Any) -> None:
             "(pip install 'hairtrigger[report]')."
         ),
     )
-    parser.add_argument("files", nargs="+", metavar="FILE", help="snapshot files (JSON)")
+    parser.add_argument(
+        "files",
+        nargs="+",
+        metavar="FILE",
+        help="snapshot files (JSON), or example:NAME for a bundled example",
+    )
     parser.add_argument(
         "-o", "--output", required=True, metavar="OUT.html", help="report file to write"
     )
@@ -77,15 +82,10 @@ def register(subparsers: Any) -> None:
 def run(args: argparse.Namespace) -> int:
     """Load the snapshots, render the report and write it atomically."""
     from ..io.report import ReportDependencyError, ReportOptions, write_report
-    from ..io.snapshot import load_snapshot
+    from ._files import check_output_path, read_snapshot
 
-    snapshots = []
-    for name in args.files:
-        try:
-            snapshots.append(load_snapshot(name))
-        except (ValueError, OSError) as exc:
-            msg = f"{name}: {exc}"
-            raise UserError(msg) from exc
+    check_output_path(args.output, args.force, tuple(args.files))
+    snapshots = [read_snapshot(name) for name in args.files]
     options = ReportOptions(
         title=args.title,
         map_measure=args.map_measure,
@@ -97,8 +97,9 @@ def run(args: argparse.Namespace) -> int:
         path = write_report(snapshots, args.output, overwrite=args.force, options=options)
     except ReportDependencyError as exc:
         raise UserError(str(exc)) from exc
-    except FileExistsError as exc:
-        raise UserError(str(exc)) from exc
+    except FileExistsError:
+        msg = f"{args.output}: file exists; pass --force to replace it"
+        raise UserError(msg) from None
     size = path.stat().st_size
     print(
         f"wrote {path} ({size:,} bytes; {len(snapshots)} snapshot"
