@@ -4,4 +4,4 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 source scripts/_venv.sh
 ensure_venv app
-exec .venv/bin/hairtrigger explore "$@"
+exec .venv/bin/hairtrigger evaluate "${1:-example:scarce_enzyme_switch}"

@@ -109,9 +109,11 @@ def inverse_state(
 
 
 def _species_at_target(
-    t: ArrayLike, c: ArrayLike, params: Mapping[str, ArrayLike], model: str, readout: str
+    target: ArrayLike, complement: ArrayLike, params: Mapping[str, ArrayLike], model: str, readout: str
 ) -> tuple[FloatArray, FloatArray, FloatArray, FloatArray, FloatArray]:
     """(A, B, C1, C2, v) at the steady state whose readout is t (complement c = 1 − t)."""
+    t = np.asarray(target, dtype=float)
+    c = np.asarray(complement, dtype=float)
     w = _get(params, "substrate_total")
     kc1 = _get(params, "kinase_kcat")
     e2 = _get(params, "phosphatase_total")
