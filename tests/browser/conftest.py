@@ -119,3 +119,122 @@ def offline_page(chromium_browser: Any) -> Iterator[tuple[Any, PageLog]]:
         yield page, log
     finally:
         context.close()
+
+
+# --- the app (hairtrigger app, Voila on 127.0.0.1) ----------------------------------------------
+
+#: Console errors that are expected offline: Voila's template asks a CDN for Font Awesome.
+OFFLINE_FONT_ERROR = "net::ERR_NAME_NOT_RESOLVED"
+
+
+@dataclass
+class AppServer:
+    """A running ``hairtrigger app``: its address, the snapshot it started from, its process."""
+
+    url: str
+    snapshot_path: Path
+    process: Any
+
+
+@pytest.fixture(scope="session")
+def app_server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[AppServer]:
+    """``python -m hairtrigger app SNAPSHOT --port P`` on a free loopback port, for the session.
+
+    Started as a user would start it (the command prints the address when Voila is ready);
+    stopped at the end by PID: SIGTERM makes the command stop Voila and its kernels.
+    """
+    import signal
+    import subprocess
+    import sys
+    import threading
+    import time
+    import urllib.request
+
+    from hairtrigger.commands.app import free_port
+    from hairtrigger.io.examples import load_example
+    from hairtrigger.io.snapshot import save_snapshot
+
+    if chromium_path() is None:  # no browser, no point in serving
+        reason = "Chromium not found (apt-get install chromium, or set HAIRTRIGGER_CHROMIUM)"
+        if os.environ.get("HAIRTRIGGER_REQUIRE_BROWSER") == "1":
+            pytest.fail(reason)
+        pytest.skip(reason)
+    folder = tmp_path_factory.mktemp("app")
+    snapshot_path = folder / "start.json"
+    save_snapshot(load_example("scarce_enzyme_switch"), snapshot_path)
+    src = str(REPO_ROOT / "src")
+    env = dict(os.environ)
+    env["PYTHONPATH"] = os.pathsep.join([src, *filter(None, [env.get("PYTHONPATH")])])
+    port = free_port()
+    process = subprocess.Popen(
+        [sys.executable, "-m", "hairtrigger", "app", str(snapshot_path), "--port", str(port)],
+        stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env, cwd=folder,
+    )
+    address: list[str] = []
+    ready = threading.Event()
+
+    def read() -> None:
+        assert process.stdout is not None
+        for line in process.stdout:
+            if "served at" in line and not address:
+                address.append(line.rsplit(" ", 1)[-1].strip())
+                ready.set()
+        ready.set()
+
+    threading.Thread(target=read, daemon=True).start()
+    try:
+        if not ready.wait(120) or not address:
+            err = process.stderr.read() if process.poll() is not None and process.stderr else ""
+            pytest.fail(f"hairtrigger app did not start: {err[-2000:]}")
+        url = address[0]
+        assert url.startswith(f"http://127.0.0.1:{port}/")
+        deadline = time.monotonic() + 30
+        while True:  # the address is printed once Voila listens; check it answers
+            try:
+                with urllib.request.urlopen(url, timeout=5) as response:  # noqa: S310 - loopback
+                    if response.status == 200:
+                        break
+            except OSError:
+                if time.monotonic() > deadline:
+                    raise
+                time.sleep(0.2)
+        yield AppServer(url, snapshot_path, process)
+    finally:
+        if process.poll() is None:
+            process.send_signal(signal.SIGTERM)
+            try:
+                process.wait(timeout=20)
+            except subprocess.TimeoutExpired:
+                process.kill()
+                process.wait()
+
+
+@pytest.fixture
+def app_page(chromium_browser: Any, app_server: AppServer) -> Iterator[tuple[Any, PageLog]]:
+    """A fresh page of the app (Voila starts one kernel per page), loaded and drawn."""
+    context = chromium_browser.new_context(viewport={"width": 1300, "height": 1000},
+                                           accept_downloads=True)
+    log = PageLog()
+    page = context.new_page()
+    page.on("request", lambda request: log.requests.append(request.url))
+    page.on("requestfailed", lambda request: log.blocked.append(request.url))
+    page.on("console", lambda message: log.console.append((message.type, message.text)))
+    page.on("pageerror", lambda error: log.page_errors.append(str(error)))
+    try:
+        page.goto(app_server.url)
+        # Drawn means: the explorer is there, the response curve has its 400-point path and
+        # the kernel has written the readout table.
+        page.wait_for_selector(".hairtrigger-explorer", timeout=90_000)
+        page.wait_for_function(
+            """() => [...document.querySelectorAll('.hairtrigger-curve svg.svg-figure path.line')]
+                     .some(p => (p.getAttribute('d') || '').split('L').length > 300)""",
+            timeout=60_000,
+        )
+        page.wait_for_selector(".hairtrigger-map svg.svg-figure image", timeout=60_000)
+        page.wait_for_function(
+            "() => /\\d/.test(document.querySelector('.hairtrigger-table')?.innerText || '')",
+            timeout=60_000,
+        )
+        yield page, log
+    finally:
+        context.close()

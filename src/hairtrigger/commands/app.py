@@ -41,6 +41,9 @@ NOTEBOOK_NAME: Final[str] = "hairtrigger-explorer.ipynb"
 #: Seconds to wait for Voila to report its address.
 STARTUP_TIMEOUT: Final[float] = 60.0
 
+#: Lab extensions Voila must not load into the app page (see `voila_command`).
+DENIED_EXTENSIONS: Final[tuple[str, ...]] = ("@jupyter-notebook/lab-extension",)
+
 _ADDRESS = re.compile(r"(http://127\.0\.0\.1:\d+/\S*)")
 
 APP_SOURCE: Final[str] = (
@@ -115,6 +118,9 @@ def voila_command(notebook: Path, port: int) -> list[str]:
         "--Voila.ip=127.0.0.1",
         "--Voila.port_retries=0",
         "--show_tracebacks=True",
+        # Notebook 7's lab extension fails to initialise inside Voila 0.5 (a console error,
+        # "The getter for the shared module is not a function"); the app does not need it.
+        *(f"--VoilaConfiguration.extension_denylist={name}" for name in DENIED_EXTENSIONS),
         f"--Voila.root_dir={notebook.parent}",
     ]
 

@@ -116,6 +116,16 @@ def _attach(panel: AppErrorPanel) -> None:
     shell.showtraceback = showtraceback
 
 
+def add_stable_classes(explorer: Any) -> None:
+    """Give every parameter control a CSS class naming its parameter.
+
+    ``hairtrigger-control-<name>`` (for example ``hairtrigger-control-activity_ratio``) lets
+    browser tests and user style sheets find a control without relying on layout order.
+    """
+    for name, control in explorer.controls.controls.items():
+        control.add_class(f"hairtrigger-control-{name}")
+
+
 def explorer_app(snapshot_path: str | os.PathLike[str] | None = None) -> w.VBox:
     """Build the app: the error panel and the explorer, started from a snapshot if given.
 
@@ -123,20 +133,29 @@ def explorer_app(snapshot_path: str | os.PathLike[str] | None = None) -> w.VBox:
     ----------
     snapshot_path : path-like, optional
         Snapshot to start from; defaults to the file named by ``HAIRTRIGGER_SNAPSHOT``, else
-        the explorer's own default cycle.
+        the explorer's own default scenario. A snapshot the explorer cannot take is reported on
+        the error panel and the app starts from the default scenario.
 
     Returns
     -------
     ipywidgets.VBox
-        Display it (the last expression of a notebook cell).
+        Display it (the last expression of a notebook cell); ``.explorer`` is the explorer
+        and ``.errors`` the error panel.
     """
     from . import Explorer
 
     panel = AppErrorPanel()
     _attach(panel)
     path = snapshot_path if snapshot_path is not None else os.environ.get(SNAPSHOT_ENV) or None
-    snapshot = load_snapshot(path) if path else None
-    explorer = Explorer(snapshot=snapshot)
+    explorer = None
+    if path:
+        try:
+            explorer = Explorer(snapshot=load_snapshot(path))
+        except (ValueError, OSError) as exc:
+            panel.show(f"could not start from {path}: {exc}; showing the default scenario")
+    if explorer is None:
+        explorer = Explorer()
+    add_stable_classes(explorer)
     box = w.VBox([panel, explorer])
     box.add_class("hairtrigger-app")
     box.explorer = explorer  # type: ignore[attr-defined]
