@@ -21,6 +21,10 @@ from .commands import UserError
 COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
+    "fit",
+    "timecourse",
+    "sbml",
+    "noise",
     "report",
     "app",
 )

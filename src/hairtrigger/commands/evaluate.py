@@ -13,8 +13,9 @@ Print one JSON object for the cycle in FILE: K1, K2, the activity ratio and the 
 at the file's parameters; the activity ratios giving 10, 50 and 90 % of total substrate, the
 response coefficient (r90/r10) and effective Hill coefficient; the readout ceiling; and, under
 "relative", the same thresholds taken as fractions of the ceiling. A quantity that does not exist
-(a target above the ceiling) is null and the "warnings" list says why. Model results are
-predictions that need experimental confirmation.
+(a target above the ceiling) is null and the "warnings" list says why. "dynamics" times the
+response to the kinase amount halved and restored (half-time, 10-90 % time, settling and
+relaxation times, s). Model results are predictions that need experimental confirmation.
 """
 
 

@@ -23,6 +23,7 @@ from .steepness import (
     threshold_log_ratios,
     thresholds,
 )
+from .switching import default_dynamics
 
 #: Keys of the threshold block, absolute and relative.
 THRESHOLD_KEYS: Final[tuple[str, ...]] = (
@@ -110,10 +111,16 @@ def evaluate(
     Returns
     -------
     dict
-        The keys of ``hairtrigger evaluate`` (`EVALUATE_KEYS`, then ``relative`` and
-        ``warnings``). Absolute thresholds are fractions of total substrate, relative ones
+        The keys of ``hairtrigger evaluate`` (`EVALUATE_KEYS`, then ``relative``,
+        ``warnings`` and ``dynamics``). Absolute thresholds are fractions of total substrate,
+        relative ones
         fractions of the readout ceiling; a quantity that does not exist is None and a warning
-        says why.
+        says why. ``dynamics`` (`hairtrigger.core.switching.default_dynamics`) times the
+        response to the kinase amount halved (``down``) and restored (``up``) from steady
+        state: half-time, 10→90 % time, settling (99 %) and relaxation times in s, plus the
+        relaxation time at the cycle's steady state and at the threshold. Quasi-steady times
+        are exact (closed-form solution); mass-action times come from the compiled
+        integrator.
 
     Examples
     --------
@@ -146,7 +153,26 @@ def evaluate(
             "(see the warnings above); the relative block measures steepness against the ceiling"
         )
     result["warnings"] = warnings
+    # After the contract's keys; its own problems are appended to the same warnings list.
+    result["dynamics"] = _dynamics(cycle, model, readout, warnings)
     return result
+
+
+def _dynamics(cycle: Cycle, model: str, readout: str, warnings: list[str]) -> dict[str, Any] | None:
+    """The ``dynamics`` block (`default_dynamics`), or None with a warning if it cannot exist."""
+    if model == "mass_action":
+        for name in ("kinase", "phosphatase"):
+            if getattr(cycle, f"{name}_koff") < 0.0:
+                warnings.append(
+                    f"dynamics do not exist: the {name} dissociation rate {name}_kon*{name}_km - "
+                    f"{name}_kcat is negative; the mass-action model needs a larger {name}_kon"
+                )
+                return None
+    block = default_dynamics(cycle, model, readout)
+    for direction in ("up", "down"):
+        if not block[direction]["success"]:
+            warnings.append(f"dynamics.{direction}: {block[direction]['message']}")
+    return block
 
 
 def steepness_map(
