@@ -372,3 +372,19 @@ def test_write_into_missing_folder_is_a_clear_error(
 ) -> None:
     with pytest.raises(FileNotFoundError, match="does not exist"):
         write_report([sharp_snapshot], tmp_path / "nowhere" / "r.html", options=options)
+
+
+def test_a_time_course_that_cannot_be_computed_is_explained_not_drawn(
+    sharp_snapshot: Snapshot, options: ReportOptions
+) -> None:
+    # Mass action needs koff = kon·Km − kcat >= 0; a binding rate this small makes it negative
+    # (the core refuses such a course), while the steady state is still defined.
+    slow_binding = sharp_snapshot.replace(
+        model="mass_action", cycle=sharp_snapshot.cycle.replace(kinase_kon=1.0)
+    )
+    assert slow_binding.cycle.kinase_koff < 0
+    document = render_report([slow_binding], options)
+    assert _figures(document) == ["s1-curve", "s1-map"]
+    assert "no time course:" in document
+    pair = render_report([slow_binding, sharp_snapshot], options)
+    assert _figures(pair) == ["compare-curves", "compare-timecourses", "s1-map", "s2-map"]

@@ -34,6 +34,7 @@ import numpy as np
 from ..core.evaluate import MAP_MEASURES, THRESHOLD_KEYS, evaluate, steepness_map
 from ..core.params import CYCLE_DESCRIPTIONS, CYCLE_KEYS, CYCLE_UNITS, Cycle, check_positive
 from ..core.steady import steady_state
+from ..core.timecourse import time_course
 from .files import atomic_write
 from .snapshot import Snapshot, dumps_snapshot, loads_snapshot
 
@@ -345,6 +346,11 @@ class _TimeCourse:
     switch_time: float | None  # 10 -> 90 % of the change
     message: str = ""
 
+    @property
+    def drawn(self) -> bool:
+        """True if there is a course to draw (False when it could not be computed)."""
+        return self.t.size > 1
+
 
 @dataclass(frozen=True)
 class _Entry:
@@ -458,9 +464,23 @@ def _time_course(
     t_end = options.t_end or _default_t_end(cycle, after_cycle)
     before = float(steady_state(cycle.arrays(), model).readout(readout))
     after = float(steady_state(after_cycle.arrays(), model).readout(readout))
-    from ..core.timecourse import time_course  # noqa: PLC0415 - hook until merged
-
-    course = time_course(cycle, steps, t_end, options.time_points, model=model, readout=readout)
+    try:
+        course = time_course(cycle, steps, t_end, options.time_points, model=model, readout=readout)
+    except ValueError as exc:  # e.g. a binding rate too small for a mass-action course
+        return _TimeCourse(
+            steps, np.zeros(0), np.zeros(0), before, after, None, None, f"no time course: {exc}"
+        )
+    if not course.success:
+        return _TimeCourse(
+            steps,
+            np.zeros(0),
+            np.zeros(0),
+            before,
+            after,
+            None,
+            None,
+            f"the time course failed: {course.message}",
+        )
     t = np.asarray(course["t"], dtype=float)
     y = np.asarray(course["readout"], dtype=float)
     change = after - before
@@ -780,7 +800,14 @@ class _Page:
         row("time course: 10→90 % switching time", [e.course.switch_time for e in entries], "s")
         table = "\n".join(rows)
         curves = response_curves_figure(entries, "compare-curves")
-        courses = time_courses_figure(entries, "compare-timecourses")
+        drawn = [e for e in entries if e.course.drawn]
+        courses = (
+            f"<figure>{time_courses_figure(drawn, 'compare-timecourses')}<figcaption>Readout "
+            "after each snapshot's step (dot: half-time; dotted: steady state after the step)."
+            "</figcaption></figure>\n"
+            if drawn
+            else ""
+        )
         return (
             '<section class="comparison" id="comparison">\n<h2>Comparison</h2>\n'
             "<p>Rows whose values differ between snapshots are highlighted. Each time course "
@@ -790,8 +817,7 @@ class _Page:
             f"<figure>{curves}<figcaption>Steady-state response of every snapshot (dot: "
             "operating point; dashed: r10, r50, r90; dotted: readout ceiling).</figcaption>"
             "</figure>\n"
-            f"<figure>{courses}<figcaption>Readout after each snapshot's step (dot: half-time; "
-            "dotted: steady state after the step).</figcaption></figure>\n</section>"
+            f"{courses}</section>"
         )
 
     def _snapshot_section(self, e: _Entry, single: bool) -> str:
@@ -832,6 +858,7 @@ class _Page:
                 "Steady-state response (dot: operating point; dashed: r10, r50, r90; "
                 "dotted: readout ceiling).</figcaption></figure>"
             )
+        if single and c.drawn:
             figures.append(
                 f"<figure>{time_courses_figure([e], f's{n}-timecourse')}"
                 "<figcaption>Readout after the step (dot: half-time; dotted: new "
