@@ -62,37 +62,61 @@ slider.observe(lambda change: setattr(line, "y", x * change["new"]), "value")
 w.VBox([slider, fig])
 """
 
-# In the page: time from a key press on `handle` to the first mutation of `target`.
+# In the page: time from a key press on `handle` to the first change of `attr` on the element
+# returned by `finder` (JS source of a function), then (for images) until the new picture is
+# decoded, plus one animation frame. Moves are `settleMs` apart so they do not overlap.
 MEASURE_JS = """
-async ([handleSel, targetSel, attr, key, moves, settleMs, timeoutMs]) => {
+async ([handleSel, finderSrc, attr, key, moves, settleMs, timeoutMs, decode]) => {
+  const find = new Function('return (' + finderSrc + ')();');
   const sleep = (ms) => new Promise(r => setTimeout(r, ms));
   const frame = () => new Promise(r => requestAnimationFrame(() => r()));
   const out = [];
   for (let i = 0; i < moves; i++) {
     const handle = document.querySelector(handleSel);
-    const target = document.querySelector(targetSel);
+    const target = find();
     if (!handle || !target)
-      throw new Error('selector not found: ' + (!handle ? handleSel : targetSel));
+      throw new Error('not found: ' + (!handle ? handleSel : finderSrc));
     handle.focus();
     const k = (typeof key === 'string') ? key : key[i % key.length];
     const before = target.getAttribute(attr);
     const changed = new Promise((resolve) => {
       const obs = new MutationObserver(() => {
-        if (target.getAttribute(attr) !== before) { obs.disconnect(); resolve(performance.now()); }
+        if (target.getAttribute(attr) !== before) { obs.disconnect(); resolve(true); }
       });
       obs.observe(target, {attributes: true, attributeFilter: [attr]});
-      setTimeout(() => { obs.disconnect(); resolve(null); }, timeoutMs);
+      setTimeout(() => { obs.disconnect(); resolve(false); }, timeoutMs);
     });
     const t0 = performance.now();
     handle.dispatchEvent(
       new KeyboardEvent('keydown', {key: k, code: k, bubbles: true, cancelable: true}));
-    const t1 = await changed;
-    out.push(t1 === null ? null : t1 - t0);
-    await frame(); await sleep(settleMs);
+    const ok = await changed;
+    if (ok && decode) {
+      const img = new Image();
+      img.src = target.getAttribute(attr);
+      await img.decode();
+    }
+    if (ok) await frame();
+    out.push(ok ? performance.now() - t0 : null);
+    await sleep(settleMs);
   }
   return out;
 }
 """
+
+READOUT_RGB = "rgb(0, 114, 178)"  # the readout colour of the explorer's curves
+
+FIND_BASELINE_LINE = "() => document.querySelector('svg.svg-figure path.line')"
+FIND_CURVE_LINE = f"""() => [...document.querySelectorAll(
+    '.hairtrigger-curve svg.svg-figure path.line')]
+    .find(p => getComputedStyle(p).stroke === '{READOUT_RGB}')"""
+FIND_OPERATING_POINT = f"""() => {{
+    const dot = [...document.querySelectorAll('.hairtrigger-curve svg.svg-figure path.dot')]
+        .find(d => getComputedStyle(d).fill === '{READOUT_RGB}');
+    return dot ? dot.parentElement : null; }}"""
+FIND_TIME_COURSE = f"""() => [...document.querySelectorAll(
+    '.hairtrigger-timecourse svg.svg-figure path.line')]
+    .find(p => getComputedStyle(p).stroke === '{READOUT_RGB}')"""
+FIND_MAP_IMAGE = "() => document.querySelector('.hairtrigger-map svg.svg-figure image')"
 
 
 def percentile(values: list[float], q: float) -> float:
@@ -176,14 +200,17 @@ def browser() -> Iterator[Any]:
 def measure(
     page: Any,
     handle: str,
-    target: str,
+    finder: str,
     attr: str,
     key: str | list[str],
     moves: int,
-    settle_ms: int = 120,
+    settle_ms: int = 150,
     timeout_ms: int = 5000,
+    decode: bool = False,
 ) -> list[float | None]:
-    return page.evaluate(MEASURE_JS, [handle, target, attr, key, moves, settle_ms, timeout_ms])
+    """Milliseconds from each key press to the redraw (None where nothing changed)."""
+    args = [handle, finder, attr, key, moves, settle_ms, timeout_ms, decode]
+    return page.evaluate(MEASURE_JS, args)
 
 
 def bench_baseline(b: Any, moves: int) -> dict[str, Any]:
@@ -195,7 +222,7 @@ def bench_baseline(b: Any, moves: int) -> dict[str, Any]:
         values = measure(
             page,
             ".widget-slider .noUi-handle[role=slider]",
-            "svg.svg-figure path.line",
+            FIND_BASELINE_LINE,
             "d",
             "ArrowRight",
             moves,
@@ -204,19 +231,102 @@ def bench_baseline(b: Any, moves: int) -> dict[str, Any]:
     return summary("baseline: trivial one-line figure", values)
 
 
+def handle_of(name: str) -> str:
+    return f".hairtrigger-control-{name} .noUi-handle[role=slider]"
+
+
+def choose_resolution(page: Any, cells: int) -> None:
+    """Pick the map resolution in the map panel and wait for the map to be redrawn."""
+    select = page.locator(".hairtrigger-map select").nth(1)
+    label = f"{cells}²"
+    current = select.evaluate("s => s.options[s.selectedIndex].text")
+    if current == label:
+        return
+    before = page.locator(".hairtrigger-map svg.svg-figure image").first.get_attribute("href")
+    select.select_option(label=label)
+    page.wait_for_function(
+        "old => document.querySelector('.hairtrigger-map svg.svg-figure image')"
+        ".getAttribute('href') !== old",
+        arg=before,
+        timeout=30000,
+    )
+
+
+def bench_explorer(b: Any, moves: int, map_moves: int) -> list[dict[str, Any]]:
+    from hairtrigger.widgets.panels.steepness import MAP_DEBOUNCE_SECONDS
+
+    debounce_ms = 1000.0 * MAP_DEBOUNCE_SECONDS
+    rows = []
+    with served(None, {"HAIRTRIGGER_SNAPSHOT": ""}) as url:
+        page = b.new_page(viewport={"width": 1300, "height": 1000})
+        page.goto(url)
+        page.wait_for_selector(".hairtrigger-explorer", timeout=90000)
+        page.wait_for_function(f"() => !!({FIND_OPERATING_POINT})()", timeout=60000)
+        page.wait_for_selector(".hairtrigger-map svg.svg-figure image", timeout=60000)
+        page.wait_for_timeout(1500)  # let the first map and link debounces pass
+        # r back and forth around the operating point, so it stays in its window
+        swing = ["ArrowRight"] * 5 + ["ArrowLeft"] * 5
+        rows.append(
+            summary(
+                "activity-ratio slider -> operating point moved",
+                measure(
+                    page,
+                    handle_of("activity_ratio"),
+                    FIND_OPERATING_POINT,
+                    "transform",
+                    swing,
+                    moves,
+                ),
+            )
+        )
+        rows.append(
+            summary(
+                "activity-ratio slider -> time course redrawn",
+                measure(page, handle_of("activity_ratio"), FIND_TIME_COURSE, "d", swing, moves),
+            )
+        )
+        rows.append(
+            summary(
+                "K1 slider -> response curve path redrawn",
+                measure(page, handle_of("K1"), FIND_CURVE_LINE, "d", swing, moves, settle_ms=350),
+            )
+        )
+        for cells in (128, 256):
+            choose_resolution(page, cells)
+            page.wait_for_timeout(500)
+            raw = measure(
+                page,
+                handle_of("phosphatase_ratio"),
+                FIND_MAP_IMAGE,
+                "href",
+                swing,
+                map_moves,
+                settle_ms=int(debounce_ms) + 400,
+                decode=True,
+            )
+            total = summary(f"map {cells}^2: E2/W slider -> image shown (incl. debounce)", raw)
+            rows.append(total)
+            net = [None if v is None else v - debounce_ms for v in raw]
+            rows.append(
+                summary(f"map {cells}^2 refresh (minus {debounce_ms:.0f} ms debounce)", net)
+            )
+        page.close()
+    return rows
+
+
 def report(rows: list[dict[str, Any]], baseline: dict[str, Any]) -> None:
     base = baseline.get("median")
     print(
-        f"{'measurement':48s} {'n':>4s} {'median':>8s} {'p90':>8s} {'min':>7s} {'max':>7s}"
+        f"{'measurement':56s} {'n':>4s} {'median':>8s} {'p90':>8s} {'min':>7s} {'max':>7s}"
         f" {'x floor':>8s}"
     )
     for r in [baseline, *rows]:
         if not r.get("n"):
-            print(f"{r['name']:48s} no change observed ({r['missed']} misses)")
+            print(f"{r['name']:56s} no change observed ({r['missed']} misses)")
             continue
         ratio = f"{r['median'] / base:8.1f}" if base else "       -"
         print(
-            f"{r['name']:48s} {r['n']:4d} {r['median']:8.1f} {r['p90']:8.1f} {r['min']:7.1f}"
+            f"{r['name']:56s} {r['n']:4d} {r['median']:8.1f} {r['p90']:8.1f} {r['min']:7.1f}"
             f" {r['max']:7.1f} {ratio}" + (f"  ({r['missed']} missed)" if r["missed"] else "")
         )
 
@@ -224,12 +334,30 @@ def report(rows: list[dict[str, Any]], baseline: dict[str, Any]) -> None:
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--moves", type=int, default=40, help="slider moves (>= 30)")
+    parser.add_argument("--map-moves", type=int, default=20, help="map refreshes per size")
     args = parser.parse_args(argv)
     moves = max(30, args.moves)
     with browser() as b:
         baseline = bench_baseline(b, moves)
-        rows: list[dict[str, Any]] = []
+        rows = bench_explorer(b, moves, max(5, args.map_moves))
     report(rows, baseline)
+    curve = next(r for r in rows if r["name"].startswith("K1 slider"))
+    point = next(r for r in rows if r["name"].startswith("activity-ratio slider -> operating"))
+    map256 = next(r for r in rows if r["name"].startswith("map 256^2 refresh"))
+    print()
+    for label, row, budget in (
+        ("curve (K1 -> path)", curve, CURVE_BUDGET_MS),
+        ("curve (r -> operating point)", point, CURVE_BUDGET_MS),
+        ("map 256^2 refresh", map256, MAP_BUDGET_MS),
+    ):
+        if not row.get("n"):
+            print(f"budget {label}: NOT MEASURED")
+            continue
+        verdict = "within" if row["median"] <= budget else "OVER"
+        print(
+            f"budget {label}: median {row['median']:.1f} ms vs {budget:.0f} ms -> {verdict}"
+            f" budget (p90 {row['p90']:.1f} ms)"
+        )
     return 0
 
 
