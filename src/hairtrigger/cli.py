@@ -21,10 +21,13 @@ from .commands import UserError
 COMMAND_MODULES: Final[tuple[str, ...]] = (
     "evaluate",
     "map",
-    "fit",
     "timecourse",
     "sbml",
     "noise",
+    "fit",
+    "cascade",
+    "sweep",
+    "explore",
     "report",
     "app",
 )

@@ -1,0 +1,109 @@
+"""The explorer: every panel laid out on one shared state, sized for a 1280 × 800 screen."""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+from typing import Any, Final
+
+import ipywidgets as w
+
+from ._support import BusyIndicator, MessageLine
+from .panels.controls import ControlsPanel
+from .panels.curve import ResponseCurvePanel
+from .panels.snapshots import SnapshotPanel
+from .panels.steepness import SteepnessMapPanel
+from .panels.table import ReadoutTable
+from .panels.timecourse import TimeCoursePanel
+from .state import ExplorerState
+
+APP_NAME: Final[str] = "hairtrigger"
+
+#: Title of the built-in scenario (invented; not measured data).
+DEFAULT_TITLE: Final[str] = "Invented scenario: a kinase/phosphatase pair at 2 % of substrate"
+
+DEFAULT_NOTES: Final[str] = (
+    "Invented scenario for illustration, not measured data. Model predictions need "
+    "experimental confirmation."
+)
+
+_CSS: Final[str] = """
+<style>
+.hairtrigger-explorer .widget-html-content { line-height: 1.35; }
+.hairtrigger-explorer .hairtrigger-message .widget-html-content { font-size: 85%; }
+.hairtrigger-explorer .jupyter-widgets:focus-visible,
+.hairtrigger-explorer .noUi-handle:focus-visible { outline: 2px solid #0072B2; outline-offset: 1px; }
+</style>
+"""
+
+
+class Explorer(w.VBox):
+    """Controls, response curve, time course, steepness map, readout table and snapshots.
+
+    Parameters
+    ----------
+    snapshot : Snapshot, str or os.PathLike, optional
+        A snapshot (or the path of a snapshot file) to start from; by default a built-in
+        invented scenario.
+    state : ExplorerState, optional
+        Share an existing state (for example with panels displayed elsewhere).
+
+    Attributes
+    ----------
+    state : ExplorerState
+        The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
+    controls, curve, time_course, steepness, table, snapshots : panels
+        The panels; each also works on its own with the same state.
+
+    Raises
+    ------
+    ValueError
+        The snapshot cannot be read or lies outside the explorer's ranges.
+    """
+
+    def __init__(self, snapshot: Any = None, state: ExplorerState | None = None) -> None:
+        self.busy = BusyIndicator()
+        if state is None:
+            state = ExplorerState(title=DEFAULT_TITLE, notes=DEFAULT_NOTES)
+        if snapshot is not None:
+            if isinstance(snapshot, str | os.PathLike):
+                from ..io.snapshot import load_snapshot
+
+                snapshot = load_snapshot(Path(snapshot))
+            state.apply_snapshot(snapshot)
+        self.state = state
+        state.progress = self.busy.working
+        self.message = MessageLine()
+        self.controls = ControlsPanel(state)
+        self.curve = ResponseCurvePanel(state, width="460px", height="290px")
+        self.time_course = TimeCoursePanel(state, width="460px", height="240px")
+        self.steepness = SteepnessMapPanel(state, width="330px", height="330px")
+        self.table = ReadoutTable(state, width="430px")
+        self.snapshots = SnapshotPanel(state)
+        left = w.VBox(
+            [self.controls],
+            layout=w.Layout(width="345px", min_width="345px", max_height="740px",
+                            overflow="auto", padding="0 6px 0 0"),
+        )
+        right_tabs = w.Tab(children=[self.table, self.snapshots],
+                           layout=w.Layout(width="445px"))
+        right_tabs.set_title(0, "Readout")
+        right_tabs.set_title(1, "Snapshots")
+        middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="470px"))
+        right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="450px"))
+        header = w.HBox(
+            [w.HTML(f"{_CSS}<b style='font-size:120%'>{APP_NAME}</b> "
+                    "<span style='color:#4d4d4d'>covalent-modification switch explorer — "
+                    "predictions need experimental confirmation</span>"),
+             self.busy, self.message],
+            layout=w.Layout(align_items="center", justify_content="flex-start"),
+        )
+        super().__init__(
+            children=[header, w.HBox([left, middle, right], layout=w.Layout(width="1270px"))],
+        )
+        self.add_class("hairtrigger-explorer")
+
+    def flush(self) -> None:
+        """Run pending debounced work now (map recompute, download link)."""
+        self.steepness.flush()
+        self.snapshots.flush()

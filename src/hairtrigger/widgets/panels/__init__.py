@@ -1,0 +1,19 @@
+"""Panels of the explorer; each observes one shared `ExplorerState` and nothing else."""
+
+from .controls import ControlsPanel, KinaseRatioControl, LogControl
+from .curve import ResponseCurvePanel
+from .snapshots import SnapshotPanel
+from .steepness import SteepnessMapPanel
+from .table import ReadoutTable
+from .timecourse import TimeCoursePanel
+
+__all__ = [
+    "ControlsPanel",
+    "KinaseRatioControl",
+    "LogControl",
+    "ReadoutTable",
+    "ResponseCurvePanel",
+    "SnapshotPanel",
+    "SteepnessMapPanel",
+    "TimeCoursePanel",
+]
