@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import json
 import re
@@ -248,7 +249,7 @@ def test_half_time_matches_an_independent_integration(sharp_snapshot: Snapshot) 
     step = {"kinase_total": 0.06}
     opts = ReportOptions(map_points=16, curve_points=40, time_points=400, steps=step, t_end=60.0)
     res = evaluate(c, "quasi_steady", "total_modified")
-    course = report_module._time_course(c, "quasi_steady", "total_modified", res, opts)
+    course = report_module._time_course(c, "quasi_steady", "total_modified", step, opts)
     after = c.replace(**step)
     w = c.substrate_total
 
@@ -280,9 +281,8 @@ def test_default_step_crosses_the_threshold(
 ) -> None:
     res = evaluate(sharp_snapshot.cycle, "quasi_steady", "total_modified")
     assert res["readout_value"] > 0.5  # the example sits in the "on" state
-    course = report_module._time_course(
-        sharp_snapshot.cycle, "quasi_steady", "total_modified", res, options
-    )
+    entry = report_module._Entry.build(0, sharp_snapshot, "x", options)
+    course = entry.course
     # switching off: the kinase is stepped to the amount that gives 10 % of the ceiling
     assert course.after == pytest.approx(0.1, rel=1e-9)
     assert course.readout[-1] == pytest.approx(course.after, abs=2e-3)  # the window settles
@@ -388,3 +388,33 @@ def test_a_time_course_that_cannot_be_computed_is_explained_not_drawn(
     assert "no time course:" in document
     pair = render_report([slow_binding, sharp_snapshot], options)
     assert _figures(pair) == ["compare-curves", "compare-timecourses", "s1-map", "s2-map"]
+
+
+def test_explorer_view_settings_choose_the_step_and_the_map(
+    sharp_snapshot: Snapshot, options: ReportOptions
+) -> None:
+    # The explorer saves its time-course target and map measure under "view"; the report
+    # follows them unless told otherwise.
+    saved = sharp_snapshot.replace(
+        extras={"view": {"step_activity_ratio": 3.0, "map_measure": "response_coefficient"}}
+    )
+    entry = report_module._Entry.build(0, saved, "x", options)
+    c = saved.cycle
+    assert entry.course.steps == {
+        "kinase_total": pytest.approx(3.0 * c.phosphatase_vmax / c.kinase_kcat, rel=1e-12)
+    }
+    assert entry.measure == "response_coefficient"
+    document = render_report([saved], options)
+    assert "response coefficient Rv = r90/r10 over the two" in document
+    told = report_module._Entry.build(
+        0,
+        saved,
+        "x",
+        dataclasses.replace(options, map_measure="peak_sensitivity", steps={"kinase_total": 0.06}),
+    )
+    assert told.measure == "peak_sensitivity" and told.course.steps == {"kinase_total": 0.06}
+    # malformed view settings are ignored, not fatal
+    odd = sharp_snapshot.replace(extras={"view": {"step_activity_ratio": "high", "map_measure": 7}})
+    entry = report_module._Entry.build(0, odd, "x", options)
+    assert entry.measure == "hill_coefficient"
+    assert entry.course.after == pytest.approx(0.1, rel=1e-9)  # the default step

@@ -52,8 +52,9 @@ def register(subparsers: Any) -> None:
     parser.add_argument(
         "--map-measure",
         choices=MAP_MEASURES,
-        default="hill_coefficient",
-        help="steepness measure of the map (default: %(default)s)",
+        default=None,
+        help="steepness measure of the map (default: the one saved by the explorer in the "
+        "snapshot, else hill_coefficient)",
     )
     parser.add_argument(
         "--map-points",

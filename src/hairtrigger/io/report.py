@@ -117,15 +117,18 @@ class ReportOptions:
         Points on each response curve.
     map_points : int
         Grid points per axis of the steepness map.
-    map_measure : str
-        One of `hairtrigger.core.evaluate.MAP_MEASURES`.
+    map_measure : str, optional
+        One of `hairtrigger.core.evaluate.MAP_MEASURES`; by default the measure saved in the
+        snapshot's view settings (the explorer saves it), else ``"hill_coefficient"``.
     map_decades : tuple of float
         log10 range of K1 = M1/W and K2 = M2/W on the map (widened to include the snapshot).
     steps : mapping, optional
         Time course step, cycle key -> new value (as ``hairtrigger timecourse --step``), the
         same for every snapshot. By default each snapshot's kinase amount is stepped to the
-        value that gives 90 % of the readout ceiling when its readout is below half the
-        ceiling, else to the value giving 10 % (switching on or off across the threshold).
+        value of the activity ratio saved in its view settings (``step_activity_ratio``, the
+        explorer's time-course step), else to the value that gives 90 % of the readout ceiling
+        when its readout is below half the ceiling, or 10 % otherwise (switching on or off
+        across the threshold).
     t_end : float, optional
         Time course end (s); by default long enough to see the switch settle.
     time_points : int
@@ -137,7 +140,7 @@ class ReportOptions:
     title: str | None = None
     curve_points: int = 400
     map_points: int = 96
-    map_measure: str = "hill_coefficient"
+    map_measure: str | None = None
     map_decades: tuple[float, float] = (-3.0, 2.0)
     steps: Mapping[str, float] | None = None
     t_end: float | None = None
@@ -150,7 +153,7 @@ class ReportOptions:
             if isinstance(value, bool) or not isinstance(value, int) or not 8 <= value <= 2048:
                 msg = f"`{name}` must be an integer between 8 and 2048; got {value!r}"
                 raise ValueError(msg)
-        if self.map_measure not in MAP_MEASURES:
+        if self.map_measure is not None and self.map_measure not in MAP_MEASURES:
             choices = ", ".join(map(repr, MAP_MEASURES))
             msg = f"`map_measure` must be one of {choices}; got {self.map_measure!r}"
             raise ValueError(msg)
@@ -365,6 +368,7 @@ class _Entry:
     curve: np.ndarray
     km_axis: np.ndarray  # K = Km/W on both map axes
     steepness: np.ndarray  # shape (K2, K1)
+    measure: str  # the steepness measure of the map
     course: _TimeCourse
 
     @classmethod
@@ -378,10 +382,18 @@ class _Entry:
         hi = max(hi, math.ceil(math.log10(max(cycle.K1, cycle.K2))) + 0.5)
         k_axis = np.logspace(lo, hi, options.map_points)
         w = cycle.substrate_total
+        view = _view_settings(snap)
+        measure = options.map_measure or view.get("map_measure")
+        if measure not in MAP_MEASURES:
+            measure = "hill_coefficient"
         steepness = steepness_map(
-            cycle, k_axis[None, :] * w, k_axis[:, None] * w, model, readout, options.map_measure
+            cycle, k_axis[None, :] * w, k_axis[:, None] * w, model, readout, measure
         )
-        course = _time_course(cycle, model, readout, results, options)
+        if options.steps:
+            steps = dict(options.steps)
+        else:
+            steps = _view_steps(cycle, view) or _default_steps(cycle, results)
+        course = _time_course(cycle, model, readout, steps, options)
         return cls(
             index,
             snap,
@@ -392,6 +404,7 @@ class _Entry:
             curve,
             k_axis,
             steepness,
+            measure,
             course,
         )
 
@@ -456,10 +469,26 @@ def _crossing(t: np.ndarray, y: np.ndarray, level: float) -> float | None:
     return float(t[i - 1] + frac * (t[i] - t[i - 1]))
 
 
+def _view_settings(snapshot: Snapshot) -> Mapping[str, Any]:
+    """The explorer's view settings saved in a snapshot (empty if none or malformed)."""
+    view = snapshot.extras.get("view")
+    return view if isinstance(view, Mapping) else {}
+
+
+def _view_steps(cycle: Cycle, view: Mapping[str, Any]) -> dict[str, float] | None:
+    """The time-course step saved by the explorer: the kinase amount giving its target r."""
+    ratio = view.get("step_activity_ratio")
+    if isinstance(ratio, bool) or not isinstance(ratio, int | float):
+        return None
+    if not (math.isfinite(ratio) and ratio > 0):
+        return None
+    return {"kinase_total": float(ratio) * cycle.phosphatase_vmax / cycle.kinase_kcat}
+
+
 def _time_course(
-    cycle: Cycle, model: str, readout: str, results: Mapping[str, Any], options: ReportOptions
+    cycle: Cycle, model: str, readout: str, steps: Mapping[str, float], options: ReportOptions
 ) -> _TimeCourse:
-    steps = dict(options.steps) if options.steps else _default_steps(cycle, results)
+    steps = dict(steps)
     after_cycle = cycle.replace(**steps)
     t_end = options.t_end or _default_t_end(cycle, after_cycle)
     before = float(steady_state(cycle.arrays(), model).readout(readout))
@@ -865,8 +894,8 @@ class _Page:
                 "steady state).</figcaption></figure>"
             )
         figures.append(
-            f"<figure>{steepness_map_figure(e, self.options.map_measure, f's{n}-map')}"
-            f"<figcaption>{html.escape(MEASURE_LABELS[self.options.map_measure])} over the two "
+            f"<figure>{steepness_map_figure(e, e.measure, f's{n}-map')}"
+            f"<figcaption>{html.escape(MEASURE_LABELS[e.measure])} over the two "
             "Michaelis constants (relative to total substrate), every other parameter as in this "
             f"snapshot, model {html.escape(snap.model)}, readout {html.escape(snap.readout)}. "
             "The red cross marks this snapshot.</figcaption></figure>"
