@@ -161,3 +161,36 @@ def explorer_app(snapshot_path: str | os.PathLike[str] | None = None) -> w.VBox:
     box.explorer = explorer  # type: ignore[attr-defined]
     box.errors = panel  # type: ignore[attr-defined]
     return box
+
+
+def write_explorer_report(
+    explorer: Any,
+    path: str | os.PathLike[str],
+    *,
+    include_pinned: bool = True,
+    overwrite: bool = False,
+) -> Any:
+    """Write the shareable HTML report of an explorer's current point (and its pins).
+
+    Parameters
+    ----------
+    explorer : Explorer
+        The explorer (its shared state supplies the snapshots).
+    path : path-like
+        Report file (``.html``), written atomically.
+    include_pinned : bool
+        Add the pinned snapshots, so the report compares them with the current point.
+    overwrite : bool
+        Replace an existing file.
+
+    Returns
+    -------
+    pathlib.Path
+        The file written (see `hairtrigger.io.report.write_report`).
+    """
+    from ..io.report import write_report
+
+    state = explorer.state
+    current = state.to_snapshot()
+    snapshots = [current, *state.pinned] if include_pinned else [current]
+    return write_report(snapshots, path, overwrite=overwrite)
