@@ -181,7 +181,11 @@ def app_server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[AppServer]:
     port = free_port()
     process = subprocess.Popen(
         [sys.executable, "-m", "hairtrigger", "app", str(snapshot_path), "--port", str(port)],
-        stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env, cwd=folder,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        env=env,
+        cwd=folder,
     )
     address: list[str] = []
     ready = threading.Event()
@@ -225,8 +229,9 @@ def app_server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[AppServer]:
 @pytest.fixture
 def app_page(chromium_browser: Any, app_server: AppServer) -> Iterator[tuple[Any, PageLog]]:
     """A fresh page of the app (Voila starts one kernel per page), loaded and drawn."""
-    context = chromium_browser.new_context(viewport={"width": 1300, "height": 1000},
-                                           accept_downloads=True)
+    context = chromium_browser.new_context(
+        viewport={"width": 1300, "height": 1000}, accept_downloads=True
+    )
     context.set_default_timeout(WAIT_MS)
     log = PageLog()
     page = context.new_page()

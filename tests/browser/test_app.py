@@ -25,8 +25,12 @@ READOUT_RGB = "rgb(0, 114, 178)"
 
 #: Console messages that are expected and harmless (WIDGETS.md §3, §4): the offline font
 #: fetches of Voila's template and Voila 0.5's shared-module version warnings.
-ALLOWED_CONSOLE = ("net::ERR_NAME_NOT_RESOLVED", "Unsatisfied version", "Federation Runtime",
-                   "No satisfying version")
+ALLOWED_CONSOLE = (
+    "net::ERR_NAME_NOT_RESOLVED",
+    "Unsatisfied version",
+    "Federation Runtime",
+    "No satisfying version",
+)
 
 JS_READOUT_D = f"""() => {{
     const lines = [...document.querySelectorAll('.hairtrigger-curve svg.svg-figure path.line')];
@@ -41,7 +45,8 @@ JS_OPERATING_POINT = f"""() => {{
 }}"""
 
 JS_TIME_COURSE_D = f"""() => {{
-    const lines = [...document.querySelectorAll('.hairtrigger-timecourse svg.svg-figure path.line')];
+    const sel = '.hairtrigger-timecourse svg.svg-figure path.line';
+    const lines = [...document.querySelectorAll(sel)];
     const line = lines.find(p => getComputedStyle(p).stroke === '{READOUT_RGB}');
     return line ? line.getAttribute('d') : null;
 }}"""
@@ -83,8 +88,15 @@ def table_text(page: Any) -> str:
 
 
 def entries(page: Any) -> dict[str, str]:
-    names = ("activity_ratio", "K1", "K2", "phosphatase_ratio", "substrate_total",
-             "kinase_kcat", "phosphatase_kcat")
+    names = (
+        "activity_ratio",
+        "K1",
+        "K2",
+        "phosphatase_ratio",
+        "substrate_total",
+        "kinase_kcat",
+        "phosphatase_kcat",
+    )
     return {n: entry(page, n) for n in names}
 
 
@@ -110,6 +122,7 @@ def screenshot(page: Any, artifacts: Path, name: str) -> None:
 
 # --- tests --------------------------------------------------------------------------------------
 
+
 def test_page_loads_without_registration_or_console_errors(
     app_page: tuple[Any, Any], app_server: Any, artifacts: Path
 ) -> None:
@@ -117,7 +130,8 @@ def test_page_loads_without_registration_or_console_errors(
     screenshot(page, artifacts, "loaded")
     if os.environ.get("HAIRTRIGGER_UPDATE_SCREENSHOT") == "1":  # refresh the README's picture
         page.locator(".hairtrigger-explorer").first.screenshot(
-            path=str(REPO_ROOT / "docs" / "explorer.png"))
+            path=str(REPO_ROOT / "docs" / "explorer.png")
+        )
     text = page.locator("body").inner_text()
     assert "is not registered" not in text
     assert not any("is not registered" in message for _, message in log.console)
@@ -129,7 +143,8 @@ def test_page_loads_without_registration_or_console_errors(
     start = load_snapshot(app_server.snapshot_path)
     assert float(entry(page, "K1")) == pytest.approx(start.cycle.K1, rel=1e-3)
     assert float(entry(page, "activity_ratio")) == pytest.approx(
-        start.cycle.activity_ratio, rel=1e-3)
+        start.cycle.activity_ratio, rel=1e-3
+    )
 
 
 def _press(page: Any, name: str, key: str, times: int) -> None:
@@ -151,7 +166,8 @@ def test_activity_ratio_slider_moves_the_operating_point_and_redraws(
     page.wait_for_function(f"() => ({JS_OPERATING_POINT})() !== {json.dumps(point)}")
     page.wait_for_function(f"() => ({JS_TIME_COURSE_D})() !== {json.dumps(course)}")
     page.wait_for_function(
-        "old => document.querySelector('.hairtrigger-table').innerText !== old", arg=table)
+        "old => document.querySelector('.hairtrigger-table').innerText !== old", arg=table
+    )
     page.wait_for_function(
         "([sel, old]) => document.querySelector(sel).value !== old",
         arg=[".hairtrigger-control-activity_ratio input", ratio],
@@ -190,7 +206,8 @@ def test_typing_k1_moves_the_map_crosshair_and_changes_the_table(
     type_entry(page, "K1", "0.5")
     page.wait_for_function(f"() => ({JS_MAP_GEOMETRY})().d !== {json.dumps(before['d'])}")
     page.wait_for_function(
-        "old => document.querySelector('.hairtrigger-table').innerText !== old", arg=table)
+        "old => document.querySelector('.hairtrigger-table').innerText !== old", arg=table
+    )
     after = page.evaluate(JS_MAP_GEOMETRY)
     screenshot(page, artifacts, "k1-typed")
     # the vertical crosshair now sits at K1 = 0.5 on the map's log axis
@@ -215,8 +232,10 @@ def test_clicking_the_map_moves_the_k1_and_k2_sliders(app_page: tuple[Any, Any])
     page, _log = app_page
     k1_handle = ".hairtrigger-control-K1 .noUi-handle[role=slider]"
     k2_handle = ".hairtrigger-control-K2 .noUi-handle[role=slider]"
-    before = (page.get_attribute(k1_handle, "aria-valuenow"),
-              page.get_attribute(k2_handle, "aria-valuenow"))
+    before = (
+        page.get_attribute(k1_handle, "aria-valuenow"),
+        page.get_attribute(k2_handle, "aria-valuenow"),
+    )
     left, top, width, height = page.evaluate(JS_MAP_GEOMETRY)["image"]
     fx, fy = 0.30, 0.20  # 30 % from the left, 20 % from the top (the y axis points up)
     page.mouse.click(left + fx * width, top + fy * height)
@@ -237,9 +256,11 @@ def test_clicking_the_map_moves_the_k1_and_k2_sliders(app_page: tuple[Any, Any])
     assert _snap(clicked_k2, cells, lo, hi) / cell <= k2 <= _snap(clicked_k2, cells, lo, hi) * cell
     # the sliders show the same values (their aria value is the log10 exponent)
     assert float(page.get_attribute(k1_handle, "aria-valuenow")) == pytest.approx(
-        math.log10(k1), abs=0.011)
+        math.log10(k1), abs=0.011
+    )
     assert float(page.get_attribute(k2_handle, "aria-valuenow")) == pytest.approx(
-        math.log10(k2), abs=0.011)
+        math.log10(k2), abs=0.011
+    )
     assert app_errors(page) == ""
 
 
@@ -248,8 +269,9 @@ def test_saved_snapshot_downloads_and_loads_back_to_the_same_state(
 ) -> None:
     page, _log = app_page
     type_entry(page, "K2", "0.2")  # a state different from the starting snapshot
-    page.wait_for_function("() => document.querySelector('.hairtrigger-control-K2 input')"
-                           ".value === '0.2'")
+    page.wait_for_function(
+        "() => document.querySelector('.hairtrigger-control-K2 input').value === '0.2'"
+    )
     open_snapshots_tab(page)
     link = page.locator(".hairtrigger-snapshots a[download]").first
     # the link is rebuilt shortly after a change; wait until it carries K2 = 0.2
@@ -275,8 +297,9 @@ def test_saved_snapshot_downloads_and_loads_back_to_the_same_state(
     assert f"{c.substrate_total:.4g}" == saved_state["substrate_total"]
     # change the state, then upload the saved file: the page returns to the saved state
     type_entry(page, "K1", "2")
-    page.wait_for_function("() => document.querySelector('.hairtrigger-control-K1 input')"
-                           ".value === '2'")
+    page.wait_for_function(
+        "() => document.querySelector('.hairtrigger-control-K1 input').value === '2'"
+    )
     upload(page, str(saved))
     page.wait_for_function(
         "v => document.querySelector('.hairtrigger-control-K1 input').value === v",
@@ -295,8 +318,14 @@ def test_malformed_upload_shows_an_error_and_changes_nothing(
     state = entries(page)
     table = table_text(page)
     curve = page.evaluate(JS_READOUT_D)
-    upload(page, {"name": "broken.json", "mimeType": "application/json",
-                  "buffer": b'{"format": "hairtrigger.snapshot", "version": 1, "cycle": {'})
+    upload(
+        page,
+        {
+            "name": "broken.json",
+            "mimeType": "application/json",
+            "buffer": b'{"format": "hairtrigger.snapshot", "version": 1, "cycle": {',
+        },
+    )
     message = page.locator(".hairtrigger-snapshots .hairtrigger-message", has_text="Error")
     message.first.wait_for(state="visible")
     text = message.first.inner_text()
