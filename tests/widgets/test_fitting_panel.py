@@ -22,7 +22,7 @@ from hairtrigger.core.fitting import fit_dose_response, fit_model
 from hairtrigger.io.data import example_data_path, parse_data
 from hairtrigger.widgets import ExplorerState
 from hairtrigger.widgets.panels import FittingPanel
-from hairtrigger.widgets.panels.fitting import FitWorker, plot_positions
+from hairtrigger.widgets.panels.fitting import FitWorker, linear_ticks, plot_positions
 from hairtrigger.widgets.state import cycle_arrays
 
 EXAMPLE_TEXT = example_data_path("invented_kinase_titration").read_text(encoding="utf-8")
@@ -263,7 +263,7 @@ def test_adopt_writes_the_fitted_quasi_steady_cycle_into_the_state(fitted: Fitti
     assert snapshot.cycle.kinase_km == pytest.approx(values["K1"] * 2.0, rel=1e-12)
     assert snapshot.cycle.phosphatase_km == pytest.approx(values["K2"] * 2.0, rel=1e-12)
     assert "from a quasi-steady cycle fit to pasted data" in state.notes
-    assert "leave K1 below unbounded" in fitted.message.text
+    assert "The data set no lower limit on K1" in fitted.message.text
 
 
 def test_adopt_mass_action_uses_the_totals_of_the_fit(panel: FittingPanel) -> None:
@@ -441,3 +441,17 @@ def test_in_a_kernel_loop_results_arrive_on_the_loop_thread(state: ExplorerState
     assert seen == [threading.main_thread()]
     ref = fit_model(parse_data(EXAMPLE_TEXT), "michaelian")
     assert panel.outcome.fits["michaelian"].values == ref.values
+
+
+@pytest.mark.parametrize(
+    "low, high, expected",
+    [
+        (-406.1, 3334.7, [0.0, 1000.0, 2000.0, 3000.0]),
+        (-1025.8, 1025.8, [-1000.0, -500.0, 0.0, 500.0, 1000.0]),
+        (0.0, 1.0, [0.0, 0.2, 0.4, 0.6, 0.8, 1.0]),
+        (0.1, 0.3, [0.1, 0.15, 0.2, 0.25, 0.3]),
+        (1.0, 1.0, []),
+    ],
+)
+def test_linear_ticks_are_round(low: float, high: float, expected: list[float]) -> None:
+    assert linear_ticks(low, high, 5) == expected

@@ -46,8 +46,8 @@ from .table import format_number
 MODEL_CHOICES: Final[tuple[tuple[str, str], ...]] = (
     ("michaelian", "Michaelian (nH = 1)"),
     ("hill", "Hill (ec50, nH)"),
-    ("quasi_steady", "quasi-steady cycle (K1, K2)"),
-    ("mass_action", "mass-action cycle (totals from the explorer)"),
+    ("quasi_steady", "quasi-steady (K1, K2)"),
+    ("mass_action", "mass action (explorer's totals)"),
 )
 MODEL_NAMES: Final[dict[str, str]] = {
     "michaelian": "Michaelian",
@@ -332,6 +332,23 @@ def _padded(low: float, high: float, fraction: float = 0.06) -> tuple[float, flo
     return low - pad, high + pad
 
 
+def linear_ticks(low: float, high: float, target: int = 5) -> list[float]:
+    """Round tick values (1, 2 or 5 times a power of ten apart) inside [low, high].
+
+    bqplot's ``num_ticks`` spaces ticks evenly between the ends, which gives labels such as
+    342.053; panels pass explicit round values instead.
+    """
+    if not (math.isfinite(low) and math.isfinite(high) and high > low):
+        return []
+    raw = (high - low) / max(target, 1)
+    power = 10.0 ** math.floor(math.log10(raw))
+    step = next(m * power for m in (1.0, 2.0, 5.0, 10.0) if m * power >= raw)
+    first = math.ceil(low / step - 1e-9)
+    last = math.floor(high / step + 1e-9)
+    # Round away binary noise (0.30000000000000004) so labels read cleanly.
+    return [float(f"{k * step:.12g}") for k in range(first, last + 1)]
+
+
 def _unit_text(unit: str) -> str:
     if unit in ("1", ""):
         return ""
@@ -491,7 +508,7 @@ class FittingPanel(w.VBox):
     def __init__(
         self,
         state: ExplorerState,
-        width: str = "430px",
+        width: str = "400px",
         height: str = "250px",
         background: bool | None = None,
     ) -> None:
@@ -520,7 +537,7 @@ class FittingPanel(w.VBox):
         self.paste = w.Textarea(
             placeholder="paste CSV: a header with input,readout (optional sd, replicate),\n"
             "then one row per measurement; '# input_kind: amount' declares doses",
-            layout=w.Layout(width="420px", height="84px"),
+            layout=w.Layout(width="400px", height="84px"),
         )
         self.paste_button = w.Button(
             description="Use pasted data",
@@ -681,7 +698,12 @@ class FittingPanel(w.VBox):
                 self.paste_button,
                 self.data_summary,
                 w.HTML('<span style="font-size:90%">models</span>'),
-                w.VBox(boxes, layout=w.Layout(padding="0 0 0 8px")),
+                w.GridBox(
+                    boxes,
+                    layout=w.Layout(
+                        grid_template_columns="165px 235px", padding="0 0 0 8px", width="400px"
+                    ),
+                ),
                 self.known,
                 w.HBox(
                     [
@@ -887,15 +909,20 @@ class FittingPanel(w.VBox):
             self.message.show_error(f"not adopted (nothing changed): {exc}")
             return False
         open_ends = [
-            f"{p.name} {'below' if p.low is None else 'above'}"
-            if (p.low is None) != (p.high is None)
-            else f"{p.name} on either side"
+            (
+                "no limits on "
+                if p.low is None and p.high is None
+                else "no lower limit on "
+                if p.low is None
+                else "no upper limit on "
+            )
+            + p.name
             for p in fit.parameters
             if not p.identifiable
         ]
         caveat = (
-            f" The data leave {', '.join(open_ends)} unbounded: the adopted value is one of "
-            "many consistent with them."
+            f" The data set {', '.join(open_ends)}: the adopted value is one of many "
+            "consistent with them."
             if open_ends
             else ""
         )
@@ -1133,10 +1160,12 @@ class FittingPanel(w.VBox):
         with self.y_scale.hold_sync():
             self.y_scale.min = y_low
             self.y_scale.max = y_high
+        self.y_axis.tick_values = np.asarray(linear_ticks(y_low, y_high, 5), dtype=float)
         r_max = 1.15 * biggest if biggest > 0 else max(1e-3 * (high - low), 1e-12)
         with self.residual_scale.hold_sync():
             self.residual_scale.min = -r_max
             self.residual_scale.max = r_max
+        self.residual_y_axis.tick_values = np.asarray(linear_ticks(-r_max, r_max, 5), dtype=float)
         with self.zero_line.hold_sync():
             self.zero_line.x = np.array([left, right])
             self.zero_line.y = np.zeros(2)
