@@ -2,6 +2,7 @@
 
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
+from .fitting import FittingPanel
 from .snapshots import SnapshotPanel
 from .steepness import SteepnessMapPanel
 from .table import ReadoutTable
@@ -9,6 +10,7 @@ from .timecourse import TimeCoursePanel
 
 __all__ = [
     "ControlsPanel",
+    "FittingPanel",
     "KinaseRatioControl",
     "LogControl",
     "ReadoutTable",
