@@ -2,6 +2,7 @@
 
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
+from .fitting import FittingPanel
 from .noise import NoisePanel
 from .snapshots import SnapshotPanel
 from .steepness import SteepnessMapPanel
@@ -10,6 +11,7 @@ from .timecourse import TimeCoursePanel
 
 __all__ = [
     "ControlsPanel",
+    "FittingPanel",
     "KinaseRatioControl",
     "LogControl",
     "NoisePanel",
