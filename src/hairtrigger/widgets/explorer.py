@@ -12,6 +12,7 @@ from ._support import BusyIndicator, MessageLine
 from .panels.controls import ControlsPanel
 from .panels.curve import ResponseCurvePanel
 from .panels.fitting import FittingPanel
+from .panels.noise import NoisePanel
 from .panels.snapshots import SnapshotPanel
 from .panels.steepness import SteepnessMapPanel
 from .panels.table import ReadoutTable
@@ -55,7 +56,7 @@ class Explorer(w.VBox):
     ----------
     state : ExplorerState
         The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
-    controls, curve, time_course, steepness, table, snapshots, fitting : panels
+    controls, curve, time_course, steepness, table, snapshots, fitting, noise : panels
         The panels; each also works on its own with the same state.
     tabs : ipywidgets.Tab
         The tabbed area under the map (Readout, Snapshots, and any added with `add_tab`).
@@ -100,6 +101,8 @@ class Explorer(w.VBox):
         self.add_tab("Snapshots", self.snapshots)
         self.fitting = FittingPanel(state, width="400px", height="250px")
         self.add_tab("Fit", self.fitting)
+        self.noise = NoisePanel(state, width="410px")
+        self.add_tab("Noise", self.noise)
         middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
         right = w.VBox([self.steepness, self.tabs], layout=w.Layout(width="435px"))
         header = w.HBox(
@@ -173,4 +176,5 @@ class Explorer(w.VBox):
     def flush(self) -> None:
         """Run pending debounced work now (map recompute, download link)."""
         self.steepness.flush()
+        self.noise.flush()
         self.snapshots.flush()
