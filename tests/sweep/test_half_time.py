@@ -76,8 +76,7 @@ def _quasi_steady_half_time_by_scipy(c: Cycle, after_kinase: float) -> float:
         return y[0] - 0.5 * (b0 + b1)
 
     half.terminal = True
-    sol = solve_ivp(rhs, (0.0, 1e7), [b0], method="LSODA", events=half, rtol=1e-12,
-                    atol=1e-16 * w)
+    sol = solve_ivp(rhs, (0.0, 1e7), [b0], method="LSODA", events=half, rtol=1e-12, atol=1e-16 * w)
     return float(sol.t_events[0][0])
 
 
@@ -87,8 +86,11 @@ def test_quasi_steady_closed_form_matches_scipy(cycle, direction):
     values = step_half_time(params, "quasi_steady", direction=direction)
     for k in range(4):
         c = _cycle_at(cycle, sample, k)
-        start, to = ((c.replace(kinase_total=0.5 * c.kinase_total), c.kinase_total)
-                     if direction == "up" else (c, 0.5 * c.kinase_total))
+        start, to = (
+            (c.replace(kinase_total=0.5 * c.kinase_total), c.kinase_total)
+            if direction == "up"
+            else (c, 0.5 * c.kinase_total)
+        )
         assert values[k] == pytest.approx(_quasi_steady_half_time_by_scipy(start, to), rel=1e-7)
 
 
@@ -111,26 +113,41 @@ def _mass_action_half_time_by_scipy(c: Cycle, after_kinase: float, readout: str)
     def out(y):
         return (y[1] + y[3]) / w if readout == "total_modified" else y[1] / w
 
-    r0 = (float(st.modified) + (float(st.phosphatase_complex) if readout == "total_modified"
-                                else 0.0)) / w
-    r1 = (float(st1.modified) + (float(st1.phosphatase_complex) if readout == "total_modified"
-                                 else 0.0)) / w
+    r0 = (
+        float(st.modified) + (float(st.phosphatase_complex) if readout == "total_modified" else 0.0)
+    ) / w
+    r1 = (
+        float(st1.modified)
+        + (float(st1.phosphatase_complex) if readout == "total_modified" else 0.0)
+    ) / w
     a1, d1, k1 = c.kinase_kon, c.kinase_koff, c.kinase_kcat
     a2, d2, k2 = c.phosphatase_kon, c.phosphatase_koff, c.phosphatase_kcat
 
     def rhs(_t, y):
         aa, bb, cc1, cc2, ee1, ee2 = y
         bind1, bind2 = a1 * ee1 * aa, a2 * ee2 * bb
-        return [-bind1 + d1 * cc1 + k2 * cc2, -bind2 + d2 * cc2 + k1 * cc1,
-                bind1 - (d1 + k1) * cc1, bind2 - (d2 + k2) * cc2,
-                -bind1 + (d1 + k1) * cc1, -bind2 + (d2 + k2) * cc2]
+        return [
+            -bind1 + d1 * cc1 + k2 * cc2,
+            -bind2 + d2 * cc2 + k1 * cc1,
+            bind1 - (d1 + k1) * cc1,
+            bind2 - (d2 + k2) * cc2,
+            -bind1 + (d1 + k1) * cc1,
+            -bind2 + (d2 + k2) * cc2,
+        ]
 
     def half(_t, y):
         return out(y) - 0.5 * (r0 + r1)
 
     half.terminal = True
-    sol = solve_ivp(rhs, (0.0, 1e6), [a, b, c1, c2, e1, e2], method="Radau", events=half,
-                    rtol=1e-10, atol=1e-15 * w)
+    sol = solve_ivp(
+        rhs,
+        (0.0, 1e6),
+        [a, b, c1, c2, e1, e2],
+        method="Radau",
+        events=half,
+        rtol=1e-10,
+        atol=1e-15 * w,
+    )
     return float(sol.t_events[0][0])
 
 
@@ -141,8 +158,11 @@ def test_mass_action_matches_scipy_radau_on_the_full_network(cycle, readout, dir
     values = step_half_time(params, "mass_action", readout, direction)
     for k in range(3):
         c = _cycle_at(cycle, sample, k)
-        start, to = ((c.replace(kinase_total=0.5 * c.kinase_total), c.kinase_total)
-                     if direction == "up" else (c, 0.5 * c.kinase_total))
+        start, to = (
+            (c.replace(kinase_total=0.5 * c.kinase_total), c.kinase_total)
+            if direction == "up"
+            else (c, 0.5 * c.kinase_total)
+        )
         reference = _mass_action_half_time_by_scipy(start, to, readout)
         assert values[k] == pytest.approx(reference, rel=1e-6)
 
@@ -154,16 +174,30 @@ def test_zero_order_limit():
     half-time is 0.5·W/(V1 − V2) = W/V2.
     """
     w, v2 = 2.0, 0.1
-    p = {"substrate_total": w, "kinase_total": 0.15, "kinase_kcat": 1.0, "kinase_km": 1e-5 * w,
-         "phosphatase_total": 0.1, "phosphatase_kcat": 1.0, "phosphatase_km": 1e-5 * w}
+    p = {
+        "substrate_total": w,
+        "kinase_total": 0.15,
+        "kinase_kcat": 1.0,
+        "kinase_km": 1e-5 * w,
+        "phosphatase_total": 0.1,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": 1e-5 * w,
+    }
     assert float(step_half_time(p)) == pytest.approx(w / v2, rel=1e-3)
 
 
 def test_first_order_limit_is_the_linear_half_time():
     """Km ≫ W: dB/dt = (V1/M1)·A − (V2/M2)·B is linear, so t½ = ln 2/λ for any step [F]."""
     m = 1e5
-    p = {"substrate_total": 1.0, "kinase_total": 0.03, "kinase_kcat": 2.0, "kinase_km": m,
-         "phosphatase_total": 0.05, "phosphatase_kcat": 1.0, "phosphatase_km": m}
+    p = {
+        "substrate_total": 1.0,
+        "kinase_total": 0.03,
+        "kinase_kcat": 2.0,
+        "kinase_km": m,
+        "phosphatase_total": 0.05,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": m,
+    }
     linear = math.log(2.0) / (0.06 / m + 0.05 / m)
     assert float(step_half_time(p)) == pytest.approx(linear, rel=1e-4)
     assert float(relaxation_half_time(p)) == pytest.approx(linear, rel=1e-4)
@@ -173,17 +207,30 @@ def test_real_half_time_differs_from_the_linear_measure_near_a_saturated_thresho
     """Why the stand-in had to go: just above the threshold of a zero-order switch the
     restored kinase drives the pool across at the small net rate V1 − V2, which takes far
     longer than ln 2·τ of the linearised equations suggests (DESIGN.md pitfall 8)."""
-    p = {"substrate_total": 1.0, "kinase_total": 0.0101, "kinase_kcat": 1.0, "kinase_km": 0.001,
-         "phosphatase_total": 0.01, "phosphatase_kcat": 1.0, "phosphatase_km": 0.001}
+    p = {
+        "substrate_total": 1.0,
+        "kinase_total": 0.0101,
+        "kinase_kcat": 1.0,
+        "kinase_km": 0.001,
+        "phosphatase_total": 0.01,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": 0.001,
+    }
     real = float(step_half_time(p))
     linear = float(relaxation_half_time(p))
     assert real > 5.0 * linear
 
 
 def test_no_change_gives_nan_and_shapes_broadcast():
-    p = {"substrate_total": 1.0, "kinase_total": np.array([[0.01], [0.02]]), "kinase_kcat": 1.0,
-         "kinase_km": np.array([0.1, 0.2, 0.3]), "phosphatase_total": 0.01,
-         "phosphatase_kcat": 1.0, "phosphatase_km": 0.1}
+    p = {
+        "substrate_total": 1.0,
+        "kinase_total": np.array([[0.01], [0.02]]),
+        "kinase_kcat": 1.0,
+        "kinase_km": np.array([0.1, 0.2, 0.3]),
+        "phosphatase_total": 0.01,
+        "phosphatase_kcat": 1.0,
+        "phosphatase_km": 0.1,
+    }
     assert step_half_time(p).shape == (2, 3)
     assert np.isnan(quasi_steady_transit_time(p, p)).all()
     assert step_time(p, 0.9).shape == (2, 3)
@@ -227,8 +274,9 @@ def test_sweep_quantities(cycle, model):
     names = [HALF_TIME, HALF_TIME_DOWN, QUASI_STEADY_HALF_TIME, RELAXATION_HALF_TIME]
     out = evaluate_sample(cycle, sample, model, outputs=names)
     np.testing.assert_array_equal(out[HALF_TIME], step_half_time(params, model))
-    np.testing.assert_array_equal(out[HALF_TIME_DOWN], step_half_time(params, model,
-                                                                      direction="down"))
+    np.testing.assert_array_equal(
+        out[HALF_TIME_DOWN], step_half_time(params, model, direction="down")
+    )
     np.testing.assert_array_equal(out[QUASI_STEADY_HALF_TIME], step_half_time(params))
     if model == "quasi_steady":
         np.testing.assert_array_equal(out[RELAXATION_HALF_TIME], relaxation_half_time(params))
@@ -249,3 +297,14 @@ def test_mass_action_half_times_do_not_depend_on_chunks(cycle):
     )
     assert 0 < possible.sum() < possible.size
     np.testing.assert_array_equal(np.isfinite(a.outputs[HALF_TIME]), possible)
+
+
+@pytest.mark.slow  # the workers load the compiled loop (~10 s on a shared 2-core machine)
+def test_cluster_half_times_equal_local(cycle, dask_client):
+    """The compiled loop runs in the workers too, with the same numbers to the bit."""
+    names = [HALF_TIME, HALF_TIME_DOWN, RELAXATION_HALF_TIME]
+    local = run_sweep(cycle, RANGES, 48, model="mass_action", outputs=names, chunk_size=16)
+    remote = run_sweep(
+        cycle, RANGES, 48, model="mass_action", outputs=names, chunk_size=16, client=dask_client
+    )
+    assert remote.table().tobytes() == local.table().tobytes()

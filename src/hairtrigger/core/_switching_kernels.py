@@ -157,8 +157,20 @@ def mass_action_step_times(  # type: ignore[no-untyped-def]  # noqa: PLR0913, PL
             for j in range(4):
                 stats[j] = 0  # the integrator's step budget counts these
             code = integrate(
-                1, y0, consts, seg_t0, seg_t1, seg_p0, seg_dp, seg_prev, t, rtol, atol,
-                max_steps, states, stats,
+                1,
+                y0,
+                consts,
+                seg_t0,
+                seg_t1,
+                seg_p0,
+                seg_dp,
+                seg_prev,
+                t,
+                rtol,
+                atol,
+                max_steps,
+                states,
+                stats,
             )
             if code != 0:
                 failed = True

@@ -303,8 +303,9 @@ def _time_quantity(
         # The mass-action equations need kon·Km ≥ kcat (a dissociation rate ≥ 0).
         valid = np.ones(np.shape(tau), dtype=bool)
         for enzyme in ("kinase", "phosphatase"):
-            kon, km, kcat = (np.asarray(params[f"{enzyme}_{k}"], dtype=float)
-                             for k in ("kon", "km", "kcat"))
+            kon, km, kcat = (
+                np.asarray(params[f"{enzyme}_{k}"], dtype=float) for k in ("kon", "km", "kcat")
+            )
             valid &= kon * km - kcat >= 0.0
         return np.asarray(np.where(valid, math.log(2.0) * tau, np.nan), dtype=float)
     if name == QUASI_STEADY_HALF_TIME:

@@ -59,10 +59,13 @@ def _positive_arrays(params: Mapping[str, ArrayLike], keys: tuple[str, ...]) -> 
     return list(np.broadcast_arrays(*arrays))
 
 
-def _both_forms(w: FloatArray, v1: FloatArray, v2: FloatArray, m1: FloatArray, m2: FloatArray
-                ) -> tuple[FloatArray, FloatArray]:
+def _both_forms(
+    w: FloatArray, v1: FloatArray, v2: FloatArray, m1: FloatArray, m2: FloatArray
+) -> tuple[FloatArray, FloatArray]:
     """Steady modified and unmodified substrate (µM), each from its own accurate formula."""
-    return goldbeter_koshland(v1, v2, m1 / w, m2 / w) * w, goldbeter_koshland(v2, v1, m2 / w, m1 / w) * w
+    modified = goldbeter_koshland(v1, v2, m1 / w, m2 / w) * w
+    unmodified = goldbeter_koshland(v2, v1, m2 / w, m1 / w) * w
+    return modified, unmodified
 
 
 def quasi_steady_transit_time(
@@ -230,13 +233,22 @@ def _mass_action_step_time(
     w, e1b, k1, m1, e2, k2, m2, a1, a2 = _positive_arrays(before, keys)
     e1a = _positive_arrays(after, ("kinase_total",))[0]
     shape = np.broadcast(w, e1a).shape
-    flat = [np.ascontiguousarray(np.broadcast_to(x, shape), dtype=float).ravel()
-            for x in (w, e1b, e1a, k1, m1, a1, e2, k2, m2, a2)]
+    flat = [
+        np.ascontiguousarray(np.broadcast_to(x, shape), dtype=float).ravel()
+        for x in (w, e1b, e1a, k1, m1, a1, e2, k2, m2, a2)
+    ]
     w, e1b, e1a, k1, m1, a1, e2, k2, m2, a2 = flat
     # Horizon: the quasi-steady transit to 99.99 % (it includes the near-linear zero-order
     # phase) plus ten mass-action relaxation times; the kernel extends it while unsettled.
-    before_flat = {"substrate_total": w, "kinase_total": e1b, "kinase_kcat": k1, "kinase_km": m1,
-                   "phosphatase_total": e2, "phosphatase_kcat": k2, "phosphatase_km": m2}
+    before_flat = {
+        "substrate_total": w,
+        "kinase_total": e1b,
+        "kinase_kcat": k1,
+        "kinase_km": m1,
+        "phosphatase_total": e2,
+        "phosphatase_kcat": k2,
+        "phosphatase_km": m2,
+    }
     after_flat = dict(before_flat, kinase_total=e1a)
     transit = quasi_steady_transit_time(before_flat, after_flat, 0.9999)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -247,8 +259,25 @@ def _mass_action_step_time(
     status = np.empty(w.size, dtype=np.int64)
     code = kernels.TOTAL_MODIFIED if readout == "total_modified" else kernels.FREE_MODIFIED
     kernels.mass_action_step_times(
-        w, e1b, e1a, k1, m1, a1, e2, k2, m2, a2, horizon, code, fraction, CROSSING_SAMPLES,
-        DEFAULT_RTOL, ATOL_FACTOR, MAX_STEPS, out, status,
+        w,
+        e1b,
+        e1a,
+        k1,
+        m1,
+        a1,
+        e2,
+        k2,
+        m2,
+        a2,
+        horizon,
+        code,
+        fraction,
+        CROSSING_SAMPLES,
+        DEFAULT_RTOL,
+        ATOL_FACTOR,
+        MAX_STEPS,
+        out,
+        status,
     )
     return out.reshape(shape)
 
