@@ -14,13 +14,14 @@ Budgets (DESIGN.md §5): 256 × 256 map ≤ 10 ms for either model and ≥ 3000�
 
 from __future__ import annotations
 
+import functools
 import math
 import time
-from collections.abc import Callable
 
 import numpy as np
 from scipy.optimize import brentq
 
+import _timing  # benchmarks/_timing.py (the script folder is on sys.path)
 from hairtrigger import Cycle, steepness_map
 from hairtrigger.core.steady import steady_state
 
@@ -39,15 +40,7 @@ GRID = 256
 KM = np.geomspace(1e-3, 1e2, GRID)
 
 
-def best_of(fn: Callable[[], object], repeat: int = 30) -> float:
-    """Smallest wall time over `repeat` calls, in seconds (first call excluded as warm-up)."""
-    fn()
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+best_of = functools.partial(_timing.best_of, repeat=30)
 
 
 def fused_map(model: str, readout: str) -> np.ndarray:
@@ -100,7 +93,7 @@ def forward_readout(p: dict[str, float], model: str, readout: str) -> float:
 
 
 def naive_point(m1: float, m2: float, model: str, readout: str) -> float:
-    """Hill coefficient at one grid point: brentq for each threshold around a brentq forward solve."""
+    """Hill coefficient at one grid point: brentq per threshold around a brentq forward solve."""
     base = dict(CYCLE.as_dict(), kinase_km=m1, phosphatase_km=m2)
     scale = CYCLE.phosphatase_kcat * CYCLE.phosphatase_total / CYCLE.kinase_kcat
 
@@ -152,7 +145,8 @@ def main() -> None:
                 else math.nan
             )
             print(
-                f"{model:13s} {readout:15s} {t_core * 1e3:8.2f} {t_fused * 1e3:9.2f} {t_core / t_fused:10.2f}"
+                f"{model:13s} {readout:15s} {t_core * 1e3:8.2f} {t_fused * 1e3:9.2f}"
+                f" {t_core / t_fused:10.2f}"
                 f" {t_loop:17.1f} {t_loop / t_core:10.0f} {diff:10.1e}"
             )
     print()
@@ -172,10 +166,11 @@ def main() -> None:
             for e1 in params["kinase_total"][::8]:
                 forward_readout(dict(params, kinase_total=float(e1)), model, "total_modified")
 
-        t_curve = best_of(curve, 200)
-        t_naive = best_of(naive_curve, 5) * 8
+        t_curve = best_of(curve, repeat=200)
+        t_naive = best_of(naive_curve, repeat=5) * 8
         print(
-            f"  {model:13s} vectorised {t_curve * 1e3:7.3f} ms   per-point brentq {t_naive * 1e3:7.2f} ms"
+            f"  {model:13s} vectorised {t_curve * 1e3:7.3f} ms"
+            f"   per-point brentq {t_naive * 1e3:7.2f} ms"
             f"   ratio {t_naive / t_curve:6.0f}x   (budget 1 ms)"
         )
 

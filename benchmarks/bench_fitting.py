@@ -14,12 +14,12 @@ Figures are the best of a few repeats (the machine is shared; best-of is the sta
 
 from __future__ import annotations
 
-import time
-from collections.abc import Callable
+import functools
 
 import numpy as np
 from scipy import optimize
 
+import _timing  # benchmarks/_timing.py (the script folder is on sys.path)
 from hairtrigger.core.fit_models import MassActionModel
 from hairtrigger.core.fitting import fit_dose_response, fit_model
 from hairtrigger.core.steady import goldbeter_koshland
@@ -32,15 +32,7 @@ KNOWN = {
 }
 
 
-def best_of(fn: Callable[[], object], repeat: int = 5) -> float:
-    """Smallest wall time over `repeat` calls in seconds (one warm-up call first)."""
-    fn()
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+best_of = functools.partial(_timing.best_of, repeat=5)
 
 
 def hill(x: np.ndarray, ec50: float, n: float, bottom: float, top: float) -> np.ndarray:

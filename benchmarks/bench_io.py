@@ -10,14 +10,14 @@ Run: ``PYTHONPATH=src python benchmarks/bench_io.py``. Prints per-call times and
 
 from __future__ import annotations
 
+import functools
 import json
 import pathlib
 import tempfile
-import time
-from collections.abc import Callable
 
 import numpy as np
 
+import _timing  # benchmarks/_timing.py (the script folder is on sys.path)
 from hairtrigger.commands.map import km_axis, steepness_table, table_to_csv
 from hairtrigger.core import Cycle, steepness_map
 from hairtrigger.io import (
@@ -28,16 +28,7 @@ from hairtrigger.io import (
     save_snapshot,
 )
 
-
-def best(func: Callable[[], object], repeat: int = 5, number: int = 1) -> float:
-    """Best wall time of `repeat` runs of `number` calls, per call (s)."""
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        for _ in range(number):
-            func()
-        times.append((time.perf_counter() - start) / number)
-    return min(times)
+best = functools.partial(_timing.best_of, repeat=5)
 
 
 def main() -> None:

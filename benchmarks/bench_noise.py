@@ -17,6 +17,7 @@ import time
 
 import numpy as np
 
+from _timing import best_of  # benchmarks/_timing.py (the script folder is on sys.path)
 from hairtrigger import Cycle
 from hairtrigger.core.copynumber import CopyNumbers
 from hairtrigger.core.noise import (
@@ -210,20 +211,13 @@ def naive_distribution(chain: BirthDeathChain) -> np.ndarray:
     return np.array([w / total for w in weights])
 
 
-def best_of(call, repeats: int) -> float:
-    best = math.inf
-    for _ in range(repeats):
-        start = time.perf_counter()
-        call()
-        best = min(best, time.perf_counter() - start)
-    return best
 
 
 def bench_exact(n_total: int) -> None:
     chain = BirthDeathChain(n_total, 1.0, 0.01, 0.02, phosphatase_rate=100.0)
     print(f"\n3. Exact stationary distribution, N = {n_total:,d} (K1 = 0.01, K2 = 0.02)")
-    t_fast = best_of(lambda: stationary_distribution(chain), 5)
-    t_naive = best_of(lambda: naive_distribution(chain), 1)
+    t_fast = best_of(lambda: stationary_distribution(chain), repeat=5)
+    t_naive = best_of(lambda: naive_distribution(chain), repeat=1)
     fast = stationary_distribution(chain).probabilities
     slow = naive_distribution(chain)
     print(f"  vectorised log-space cumulative sum      {t_fast * 1e3:9.1f} ms")
@@ -231,7 +225,7 @@ def bench_exact(n_total: int) -> None:
         f"  per-state Python loop (baseline)         {t_naive * 1e3:9.1f} ms   "
         f"ratio x{t_naive / t_fast:,.0f}   max |dp| = {np.abs(fast - slow).max():.1e}"
     )
-    t_thr = best_of(lambda: population_thresholds(chain), 3)
+    t_thr = best_of(lambda: population_thresholds(chain), repeat=3)
     print(f"  population thresholds and Hill coefficient {t_thr * 1e3:7.1f} ms")
     cycle = Cycle(
         substrate_total=1.0,
@@ -244,7 +238,7 @@ def bench_exact(n_total: int) -> None:
         phosphatase_km=0.02,
         phosphatase_kon=100.0,
     )
-    t_sum = best_of(lambda: noise_summary(cycle, molecules=n_total), 3)
+    t_sum = best_of(lambda: noise_summary(cycle, molecules=n_total), repeat=3)
     print(f"  whole `noise` summary (without JSON text) {t_sum * 1e3:8.1f} ms")
 
 

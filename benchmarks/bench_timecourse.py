@@ -17,6 +17,7 @@ best of repeated calls (the machine is shared; best-of is the least noisy statis
 
 from __future__ import annotations
 
+import functools
 import time
 from collections.abc import Callable
 
@@ -24,6 +25,7 @@ import numpy as np
 import roadrunner
 from scipy.integrate import solve_ivp
 
+import _timing  # benchmarks/_timing.py (the script folder is on sys.path)
 from hairtrigger import Cycle, time_course
 from hairtrigger.io.sbml import cycle_to_sbml
 
@@ -49,15 +51,7 @@ CASES = (
 )
 
 
-def best_of(fn: Callable[[], object], repeat: int = 40) -> float:
-    """Smallest wall time over `repeat` calls, in seconds (first call excluded as warm-up)."""
-    fn()
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+best_of = functools.partial(_timing.best_of, repeat=40)
 
 
 def roadrunner_runner(
@@ -149,7 +143,7 @@ def quasi_steady() -> None:
             return time_course(cycle, step, t_end, POINTS, method="ode", rtol=1e-10)
 
         run_rr, rr = roadrunner_runner(cycle, step, "quasi_steady", t_end, 1e-10, 1e-14)
-        t_exact = best_of(exact, 200)
+        t_exact = best_of(exact, repeat=200)
         t_lsoda = best_of(lsoda)
         t_ode = best_of(ode)
         t_rr = best_of(run_rr)

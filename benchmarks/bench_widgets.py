@@ -59,18 +59,21 @@ def median_ms(samples: list[float]) -> float:
     return 1e3 * statistics.median(samples)
 
 
-def time_calls(function: Callable[[], Any], repeats: int) -> list[float]:
+def time_calls(function: Callable[[], Any], repeats: int, cpu: bool = False) -> list[float]:
+    """Seconds per call (wall clock, or CPU time of this thread with ``cpu=True``)."""
+    clock = time.thread_time if cpu else time.perf_counter
     function()  # warm-up (JIT compilation, caches)
     out = []
     for _ in range(repeats):
-        start = time.perf_counter()
+        start = clock()
         function()
-        out.append(time.perf_counter() - start)
+        out.append(clock() - start)
     return out
 
 
-def bench_moves(explorer: Explorer, name: str,
-                values: np.ndarray) -> tuple[list[float], list[float], float]:
+def bench_moves(
+    explorer: Explorer, name: str, values: np.ndarray
+) -> tuple[list[float], list[float], float]:
     """Time each slider move in a running loop.
 
     Returns wall seconds and CPU seconds (this thread) per move, and comm messages per move.
@@ -101,8 +104,10 @@ def main(argv: list[str] | None = None) -> int:
     n = args.repeats
 
     print("hairtrigger widgets benchmark (Python side; medians)")
-    print(f"budget: one slider move with every panel refreshed <= {BUDGET_MOVE_MS:g} ms "
-          "(CPU time of the kernel thread)\n")
+    print(
+        f"budget: one slider move with every panel refreshed <= {BUDGET_MOVE_MS:g} ms "
+        "(CPU time of the kernel thread)\n"
+    )
     explorer = Explorer()
     state = explorer.state
     ok = True
@@ -110,12 +115,19 @@ def main(argv: list[str] | None = None) -> int:
         state.model = model
         explorer.flush()
         cycle = state.cycle
-        core = time_calls(lambda: (evaluate(cycle, model, state.readout),
-                                   compute_time_course(cycle, model, state.readout,
-                                                       state.step_activity_ratio)), n)
+        core = time_calls(
+            lambda: (
+                evaluate(cycle, model, state.readout),
+                compute_time_course(cycle, model, state.readout, state.step_activity_ratio),
+            ),
+            n,
+            cpu=True,
+        )
         print(f"[{model}]")
-        print(f"  baseline: core work of one move (evaluate + time course) "
-              f"{median_ms(core):6.2f} ms")
+        print(
+            f"  baseline: core work of one move (evaluate + time course), CPU "
+            f"{median_ms(core):6.2f} ms"
+        )
         sweeps = {
             "activity_ratio": np.geomspace(0.9, 1.1, n),
             "K1": np.geomspace(0.03, 0.08, n),
@@ -126,10 +138,12 @@ def main(argv: list[str] | None = None) -> int:
             walls, cpus, messages = bench_moves(explorer, name, values)
             wall, cpu = median_ms(walls), median_ms(cpus)
             ok &= cpu <= BUDGET_MOVE_MS
-            print(f"  move {name:<18} CPU {cpu:6.2f} ms, wall {wall:6.2f} ms "
-                  f"(p90 {1e3 * float(np.percentile(walls, 90)):6.2f}), "
-                  f"{cpu / median_ms(core):4.1f}x core, {messages:4.1f} messages/move, "
-                  f"{'within' if cpu <= BUDGET_MOVE_MS else 'OVER'} budget")
+            print(
+                f"  move {name:<18} CPU {cpu:6.2f} ms, wall {wall:6.2f} ms "
+                f"(p90 {1e3 * float(np.percentile(walls, 90)):6.2f}), "
+                f"{cpu / median_ms(core):4.1f}x core, {messages:4.1f} messages/move, "
+                f"{'within' if cpu <= BUDGET_MOVE_MS else 'OVER'} budget"
+            )
         print()
 
     print("steepness map recompute (compute + colour + PNG + send), wall time")
@@ -145,36 +159,55 @@ def main(argv: list[str] | None = None) -> int:
                 cycle = state.cycle
                 k = panel.current.k1 * cycle.substrate_total
                 reps = max(3, n // 8)
-                bare = time_calls(lambda: steepness_map(cycle, k[None, :], k[:, None], model,
-                                                        state.readout, measure), reps)
+                bare = time_calls(
+                    lambda: steepness_map(
+                        cycle, k[None, :], k[:, None], model, state.readout, measure
+                    ),
+                    reps,
+                )
                 full = time_calls(panel._recompute_now, reps)
                 # Messages and bytes of a refresh that changes the picture (a new outline).
                 _SENT.clear()
                 for target in (3.0, 5.0):
                     state.map_target = target
-                sent = [m for m in _SENT if m[1].get("method") == "update"
-                        and m[0] in (panel.image_mark, *panel._buffers)]
+                sent = [
+                    m
+                    for m in _SENT
+                    if m[1].get("method") == "update"
+                    and m[0] in (panel.image_mark, *panel._buffers)
+                ]
                 size = sum(_bytes(b) for _, _, b in sent) / 2
-                print(f"  {model:<12} {measure:<17} {cells}²: {median_ms(full):7.2f} ms "
-                      f"(core map {median_ms(bare):7.2f} ms, "
-                      f"x{median_ms(full) / median_ms(bare):5.2f}), {len(sent) / 2:3.1f} "
-                      f"image messages/refresh, {size / 1024:5.1f} KiB PNG")
+                print(
+                    f"  {model:<12} {measure:<17} {cells}²: {median_ms(full):7.2f} ms "
+                    f"(core map {median_ms(bare):7.2f} ms, "
+                    f"x{median_ms(full) / median_ms(bare):5.2f}), {len(sent) / 2:3.1f} "
+                    f"image messages/refresh, {size / 1024:5.1f} KiB PNG"
+                )
                 state.map_target = 4.0
 
     print("\nbaseline: stock bqplot HeatMap colour update (float32), same grids")
     for cells in (128, 256):
         grid = np.geomspace(1e-4, 1e2, cells)
-        heat = bq.HeatMap(x=grid, y=grid, color=np.zeros((cells, cells), np.float32),
-                          scales={"x": bq.LogScale(), "y": bq.LogScale(),
-                                  "color": bq.ColorScale(scheme="viridis")})
+        heat = bq.HeatMap(
+            x=grid,
+            y=grid,
+            color=np.zeros((cells, cells), np.float32),
+            scales={
+                "x": bq.LogScale(),
+                "y": bq.LogScale(),
+                "color": bq.ColorScale(scheme="viridis"),
+            },
+        )
         rng = np.random.default_rng(0)
         colours = [rng.random((cells, cells)).astype(np.float32) for _ in range(n // 4 + 1)]
         it = iter(colours)
         _SENT.clear()
         times = time_calls(lambda: setattr(heat, "color", next(it)), n // 4)
         size = sum(_bytes(b) for w, m, b in _SENT if w is heat) / max(1, len(_SENT))
-        print(f"  HeatMap {cells}²: {median_ms(times):6.2f} ms Python side, {size / 1024:6.1f} KiB "
-              "per update (browser redraw ≈ 260 ms at 256², WIDGETS.md)")
+        print(
+            f"  HeatMap {cells}²: {median_ms(times):6.2f} ms Python side, {size / 1024:6.1f} KiB "
+            "per update (browser redraw ≈ 260 ms at 256², WIDGETS.md)"
+        )
     print(f"\nall slider moves within budget (CPU time): {'yes' if ok else 'NO'}")
     if hasattr(os, "getloadavg"):
         print(f"load average during the run: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")

@@ -28,6 +28,8 @@ COMMAND_MODULES: Final[tuple[str, ...]] = (
     "cascade",
     "sweep",
     "explore",
+    "report",
+    "app",
 )
 
 

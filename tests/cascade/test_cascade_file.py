@@ -98,10 +98,11 @@ def test_bad_field_is_named(document, path, value, field, match):
     "text,match",
     [
         ("{", "not valid JSON"),
-        ('{"format": NaN}', "NaN is not a JSON number"),
+        ('{"format": NaN}', "token NaN is not valid JSON"),
         ('{"format": "a", "format": "b"}', "appears twice"),
         ("[]", "JSON object"),
-        (b"\xff\xfe", "not UTF-8"),
+        (b"\xff\xfe", "UTF-16 text; save it as UTF-8"),
+        (b"{\"a\": \"\xff\"}", "not valid UTF-8"),
     ],
 )
 def test_bad_text(text, match):

@@ -18,10 +18,22 @@ BAD_ENTRIES = ["abc", "", "   ", "nan", "inf", "-inf", "-0.1", "0", "1e9", "0,5"
 
 
 @pytest.mark.parametrize("text", BAD_ENTRIES)
-@pytest.mark.parametrize("name", ["activity_ratio", "K1", "K2", "phosphatase_ratio",
-                                  "substrate_total", "kinase_kcat", "kinase_kon", "kinase_ratio"])
-def test_bad_entry_is_refused_with_a_message(panel: ControlsPanel, state: ExplorerState,
-                                             name: str, text: str) -> None:
+@pytest.mark.parametrize(
+    "name",
+    [
+        "activity_ratio",
+        "K1",
+        "K2",
+        "phosphatase_ratio",
+        "substrate_total",
+        "kinase_kcat",
+        "kinase_kon",
+        "kinase_ratio",
+    ],
+)
+def test_bad_entry_is_refused_with_a_message(
+    panel: ControlsPanel, state: ExplorerState, name: str, text: str
+) -> None:
     control = panel.controls[name]
     before, revision = state.inputs, state.revision
     control.entry.value = text
@@ -32,7 +44,9 @@ def test_bad_entry_is_refused_with_a_message(panel: ControlsPanel, state: Explor
     assert control.spec.symbol in control.message.text
 
 
-def test_good_entry_sets_state_and_clears_the_message(panel: ControlsPanel, state: ExplorerState) -> None:
+def test_good_entry_sets_state_and_clears_the_message(
+    panel: ControlsPanel, state: ExplorerState
+) -> None:
     control = panel.controls["K1"]
     control.entry.value = "abc"
     assert control.message.text
@@ -71,8 +85,8 @@ def test_kinase_ratio_control_follows_and_sets(panel: ControlsPanel, state: Expl
     state.phosphatase_ratio = 0.1
     # Range and value move together: E1/W follows E2/W at fixed activity ratio.
     low, high = state.kinase_ratio_bounds()
-    assert control.slider.base ** control.slider.min == pytest.approx(low)
-    assert control.slider.base ** control.slider.max == pytest.approx(high)
+    assert control.slider.base**control.slider.min == pytest.approx(low)
+    assert control.slider.base**control.slider.max == pytest.approx(high)
     assert control.slider.value == pytest.approx(state.kinase_ratio)
     control.entry.value = "0.2"
     assert state.kinase_ratio == pytest.approx(0.2)
@@ -105,3 +119,25 @@ def test_every_control_is_keyboard_reachable(panel: ControlsPanel) -> None:
     for control in panel.controls.values():
         assert control.slider.tabbable is not False and control.entry.tabbable is not False
         assert control.slider.readout is False  # the slider's own readout would clamp silently
+
+
+@pytest.mark.parametrize("name", ["activity_ratio", "K2", "phosphatase_ratio", "kinase_ratio"])
+def test_browser_snapping_echo_does_not_change_the_state(
+    panel: ControlsPanel, state: ExplorerState, name: str
+) -> None:
+    # The browser's log slider snaps an off-grid value to its step grid and sends the snapped
+    # value back although nobody moved it; the state must keep the value that was set.
+    import math
+
+    control = panel.controls[name]
+    low, high = control.bounds()
+    target = math.sqrt(low * high) * 1.0123  # off the slider grid
+    control.entry.value = f"{target:.6g}"
+    kept = control.current()
+    slider = control.slider
+    grid = slider.min + round((math.log10(kept) - slider.min) / slider.step) * slider.step
+    slider.set_state({"value": 10.0 ** (grid + 1e-13)})  # as the front end sends it
+    assert control.current() == kept
+    # A real move (one arrow-key step) does reach the state.
+    slider.set_state({"value": 10.0 ** (grid + slider.step)})
+    assert math.log10(control.current()) == pytest.approx(grid + slider.step, abs=1e-12)

@@ -17,8 +17,13 @@ ROOT = Path(__file__).resolve().parents[2]
 
 
 def test_help(cli_env: dict[str, str]) -> None:
-    out = subprocess.run([sys.executable, "-m", "hairtrigger", "explore", "--help"],
-                         capture_output=True, text=True, env=cli_env, check=True)
+    out = subprocess.run(
+        [sys.executable, "-m", "hairtrigger", "explore", "--help"],
+        capture_output=True,
+        text=True,
+        env=cli_env,
+        check=True,
+    )
     assert "JupyterLab" in out.stdout and "SNAPSHOT" in out.stdout
 
 
@@ -40,20 +45,31 @@ def test_snapshot_is_checked_and_passed_on(capsys: pytest.CaptureFixture[str]) -
     assert "HAIRTRIGGER_SNAPSHOT=" in out and "scarce_enzyme_switch.json" in out
 
 
-@pytest.mark.parametrize("argument, message", [
-    ("missing.json", "no such file"),
-    ("example:nope", "no example snapshot"),
-])
-def test_bad_snapshot_is_one_line_exit_2(argument: str, message: str, cli_env: dict[str, str],
-                                         tmp_path: Path) -> None:
-    out = subprocess.run([sys.executable, "-m", "hairtrigger", "explore", argument, "--dry-run"],
-                         capture_output=True, text=True, env=cli_env, cwd=tmp_path)
+@pytest.mark.parametrize(
+    "argument, message",
+    [
+        ("missing.json", "no such file"),
+        ("example:nope", "no example snapshot"),
+    ],
+)
+def test_bad_snapshot_is_one_line_exit_2(
+    argument: str, message: str, cli_env: dict[str, str], tmp_path: Path
+) -> None:
+    out = subprocess.run(
+        [sys.executable, "-m", "hairtrigger", "explore", argument, "--dry-run"],
+        capture_output=True,
+        text=True,
+        env=cli_env,
+        cwd=tmp_path,
+    )
     assert out.returncode == 2
     assert message in out.stderr and len(out.stderr.strip().splitlines()) == 1
     assert "Traceback" not in out.stderr
 
 
-def test_invalid_snapshot_file_is_refused(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+def test_invalid_snapshot_file_is_refused(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     bad = tmp_path / "bad.json"
     bad.write_text('{"format": "hairtrigger.snapshot", "version": 1}', encoding="utf-8")
     assert main(["explore", str(bad), "--dry-run"]) == 2
@@ -110,7 +126,10 @@ def test_missing_jupyterlab_is_a_clear_error(monkeypatch, capsys) -> None:
     import importlib.util
 
     real = importlib.util.find_spec
-    monkeypatch.setattr(importlib.util, "find_spec",
-                        lambda name, *a: None if name == "jupyterlab" else real(name, *a))
+    monkeypatch.setattr(
+        importlib.util,
+        "find_spec",
+        lambda name, *a: None if name == "jupyterlab" else real(name, *a),
+    )
     assert main(["explore", "--dry-run"]) == 2
     assert "hairtrigger[app]" in capsys.readouterr().err

@@ -28,12 +28,24 @@ def _walk(widget: w.Widget):
 
 def test_explorer_lays_out_every_panel(explorer: Explorer) -> None:
     found = {type(x) for x in _walk(explorer)}
-    for panel in (ControlsPanel, ResponseCurvePanel, TimeCoursePanel, SteepnessMapPanel,
-                  ReadoutTable, SnapshotPanel):
+    for panel in (
+        ControlsPanel,
+        ResponseCurvePanel,
+        TimeCoursePanel,
+        SteepnessMapPanel,
+        ReadoutTable,
+        SnapshotPanel,
+    ):
         assert panel in found
     assert isinstance(explorer.state, ExplorerState)
-    for panel in (explorer.controls, explorer.curve, explorer.time_course, explorer.steepness,
-                  explorer.table, explorer.snapshots):
+    for panel in (
+        explorer.controls,
+        explorer.curve,
+        explorer.time_course,
+        explorer.steepness,
+        explorer.table,
+        explorer.snapshots,
+    ):
         assert panel.state is explorer.state
     assert "experimental confirmation" in explorer.children[0].children[0].value
 
@@ -61,8 +73,9 @@ def test_panels_work_alone_on_a_shared_state() -> None:
     assert curve.operating_point.y[0] == pytest.approx(state.results["readout_value"])
 
 
-def test_a_failing_panel_shows_its_error_and_the_others_go_on(explorer: Explorer,
-                                                              monkeypatch) -> None:
+def test_a_failing_panel_shows_its_error_and_the_others_go_on(
+    explorer: Explorer, monkeypatch
+) -> None:
     import hairtrigger.widgets.panels.curve as curve_module
 
     def broken(*args, **kwargs):
@@ -103,3 +116,38 @@ def test_explorer_refuses_an_out_of_range_snapshot() -> None:
     far = snap.replace(cycle=snap.cycle.replace(kinase_km=1e-7))
     with pytest.raises(ValueError, match="outside the explorer's range"):
         Explorer(far)
+
+
+def test_a_refused_time_course_does_not_block_the_steady_state(explorer: Explorer) -> None:
+    state = explorer.state
+    with state.batch():
+        state.model = "mass_action"
+        state.kinase_kon = 100.0  # a1·M1 = 100 × 0.05 µM < k1 = 10/s: no valid binding scheme
+    assert state.problem == ""
+    assert state.results["K1"] == pytest.approx(state.K1)
+    course = state.time_course
+    assert not course.success and "a1 >= k/M = 200" in course.message
+    panel = explorer.time_course
+    assert not panel.readout_line.visible
+    assert "raise a1" in panel.message.text
+    assert "raise a1" in explorer.table.table.value
+    state.kinase_kon = 1000.0
+    assert state.time_course.success and panel.readout_line.visible
+    assert panel.message.text == ""
+
+
+def test_add_tab_extends_the_tab_area(explorer: Explorer) -> None:
+    assert explorer.tabs.titles == ("Readout", "Snapshots")
+    extra = ReadoutTable(explorer.state)
+    index = explorer.add_tab("Extra", extra, select=True)
+    assert index == 2
+    assert explorer.tabs.titles == ("Readout", "Snapshots", "Extra")
+    assert explorer.tabs.children[2] is extra
+    assert explorer.tabs.selected_index == 2
+    with pytest.raises(ValueError, match="already a tab"):
+        explorer.add_tab("Again", extra)
+    with pytest.raises(ValueError, match="title"):
+        explorer.add_tab(" ", w.HTML())
+    with pytest.raises(ValueError, match="widget"):
+        explorer.add_tab("Not a widget", object())  # type: ignore[arg-type]
+    assert explorer.tabs.titles == ("Readout", "Snapshots", "Extra")

@@ -39,7 +39,9 @@ def _click(panel: SteepnessMapPanel, x: float, y: float) -> None:
     )
 
 
-def test_click_sets_k1_and_k2_in_one_recompute(panel: SteepnessMapPanel, state: ExplorerState) -> None:
+def test_click_sets_k1_and_k2_in_one_recompute(
+    panel: SteepnessMapPanel, state: ExplorerState
+) -> None:
     start = state.revision
     _click(panel, 0.0123, 2.5)
     assert state.revision == start + 1
@@ -76,8 +78,10 @@ def test_png_decodes_to_the_colours(panel: SteepnessMapPanel, state: ExplorerSta
     np.testing.assert_array_equal(decoded, image.rgba[::-1])  # row 0 = largest K2 at the top
     undefined = ~image.defined
     assert undefined.any() and image.defined.any()
-    np.testing.assert_array_equal(image.rgba[undefined & ~image.outline][:, :3],
-                                  np.tile(UNDEFINED_RGB, (int((undefined & ~image.outline).sum()), 1)))
+    np.testing.assert_array_equal(
+        image.rgba[undefined & ~image.outline][:, :3],
+        np.tile(UNDEFINED_RGB, (int((undefined & ~image.outline).sum()), 1)),
+    )
     assert panel.image_mark.image.value == image.png
     assert "undefined" in panel.caption.value
 
@@ -119,8 +123,9 @@ def test_measure_choice_and_target_entry(panel: SteepnessMapPanel, state: Explor
     assert state.map_target == 20.0 and panel.target_message.text == ""
 
 
-def test_map_ignores_changes_it_does_not_depend_on(panel: SteepnessMapPanel,
-                                                   state: ExplorerState) -> None:
+def test_map_ignores_changes_it_does_not_depend_on(
+    panel: SteepnessMapPanel, state: ExplorerState
+) -> None:
     start = panel.recomputes
     state.activity_ratio = 1.4
     state.K1 = 0.2
@@ -130,8 +135,9 @@ def test_map_ignores_changes_it_does_not_depend_on(panel: SteepnessMapPanel,
     assert panel.recomputes == start + 1
 
 
-def test_500_rapid_changes_recompute_the_map_once(panel: SteepnessMapPanel,
-                                                  state: ExplorerState) -> None:
+def test_500_rapid_changes_recompute_the_map_once(
+    panel: SteepnessMapPanel, state: ExplorerState
+) -> None:
     async def drag() -> None:
         for value in np.geomspace(0.001, 1.0, 500):
             state.phosphatase_ratio = float(value)  # as a drag in a kernel (a running loop)

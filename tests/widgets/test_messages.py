@@ -3,12 +3,11 @@
 from __future__ import annotations
 
 import asyncio
+from typing import Any
 
 import numpy as np
 
 from hairtrigger.widgets import Explorer
-
-from typing import Any
 
 MessageLog = Any  # the `messages` fixture (conftest.py)
 
@@ -48,8 +47,11 @@ def test_map_refresh_sends_a_few_messages(explorer: Explorer, messages: MessageL
     messages.clear()
     explorer.state.phosphatase_ratio = 0.1
     explorer.flush()
-    image_updates = [m for m in messages.updates()
-                     if m[0] in (explorer.steepness.image_mark, *explorer.steepness._buffers)]
+    image_updates = [
+        m
+        for m in messages.updates()
+        if m[0] in (explorer.steepness.image_mark, *explorer.steepness._buffers)
+    ]
     # New PNG into the back buffer, then swap the mark's image: two messages, binary payload.
     assert len(image_updates) == 2
     assert any(buffers for _, _, buffers in image_updates)

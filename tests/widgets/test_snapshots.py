@@ -108,9 +108,19 @@ def test_download_link_carries_the_snapshot(explorer: Explorer) -> None:
 
 def _upload(explorer: Explorer, name: str, text: bytes) -> None:
     # As the front end sends it: a list of files, contents as binary, time in ms.
-    explorer.snapshots.upload.set_state({"value": [
-        {"name": name, "type": "application/json", "size": len(text),
-         "content": memoryview(text), "last_modified": 1_700_000_000_000}]})
+    explorer.snapshots.upload.set_state(
+        {
+            "value": [
+                {
+                    "name": name,
+                    "type": "application/json",
+                    "size": len(text),
+                    "content": memoryview(text),
+                    "last_modified": 1_700_000_000_000,
+                }
+            ]
+        }
+    )
 
 
 def test_upload_loads_and_can_pin(explorer: Explorer) -> None:
@@ -153,8 +163,9 @@ def _bad_text(kind: str, good: dict) -> bytes:
 
 @pytest.mark.parametrize("kind", list(BAD_FILES))
 @pytest.mark.parametrize("route", ["path", "upload"])
-def test_a_bad_file_shows_an_error_and_changes_nothing(explorer: Explorer, tmp_path: Path,
-                                                       kind: str, route: str) -> None:
+def test_a_bad_file_shows_an_error_and_changes_nothing(
+    explorer: Explorer, tmp_path: Path, kind: str, route: str
+) -> None:
     good = json.loads(dumps_snapshot(explorer.state.to_snapshot()))
     text = _bad_text(kind, good)
     state = explorer.state

@@ -29,14 +29,16 @@ def test_slider_bounds_equal_trait_bounds(state: ExplorerState) -> None:
     panel = ControlsPanel(state)
     for spec in PARAMETERS:
         slider = panel.controls[spec.name].slider
-        assert slider.base ** slider.min == pytest.approx(spec.low, rel=1e-15)
-        assert slider.base ** slider.max == pytest.approx(spec.high, rel=1e-15)
-        assert slider.base ** slider.min >= spec.low and slider.base ** slider.max <= spec.high
+        assert slider.base**slider.min == pytest.approx(spec.low, rel=1e-15)
+        assert slider.base**slider.max == pytest.approx(spec.high, rel=1e-15)
+        assert slider.base**slider.min >= spec.low and slider.base**slider.max <= spec.high
 
 
 @pytest.mark.parametrize("value", BAD_VALUES)
 @pytest.mark.parametrize("name", ["activity_ratio", "K1", "substrate_total"])
-def test_bad_values_raise_and_change_nothing(state: ExplorerState, name: str, value: object) -> None:
+def test_bad_values_raise_and_change_nothing(
+    state: ExplorerState, name: str, value: object
+) -> None:
     before = (getattr(state, name), state.revision, dict(state.results))
     with pytest.raises(ParameterError, match=name):
         setattr(state, name, value)
@@ -90,9 +92,17 @@ def test_results_are_the_core_evaluate_results(state: ExplorerState) -> None:
 
 
 def test_coordinates_round_trip() -> None:
-    cycle = Cycle(substrate_total=4.0, kinase_total=0.038, kinase_kcat=2.5, kinase_km=0.12,
-                  kinase_kon=80.0, phosphatase_total=0.05, phosphatase_kcat=2.0,
-                  phosphatase_km=0.16, phosphatase_kon=60.0)
+    cycle = Cycle(
+        substrate_total=4.0,
+        kinase_total=0.038,
+        kinase_kcat=2.5,
+        kinase_km=0.12,
+        kinase_kon=80.0,
+        phosphatase_total=0.05,
+        phosphatase_kcat=2.0,
+        phosphatase_km=0.16,
+        phosphatase_kon=60.0,
+    )
     state = ExplorerState()
     state.set_cycle(cycle, model="quasi_steady")
     back = state.to_cycle()
@@ -162,4 +172,6 @@ def test_examples_in_docstring() -> None:
     # Goldbeter & Koshland (1981) PNAS 78:6840, Rv = 81(K1+0.1)(K2+0.1)/((K1+0.9)(K2+0.9)) [F]
     rv = 81 * (0.01 + 0.1) ** 2 / (0.01 + 0.9) ** 2
     assert state.results["response_coefficient"] == pytest.approx(rv, rel=1e-12)
-    assert state.results["hill_coefficient"] == pytest.approx(math.log(81) / math.log(rv), rel=1e-12)
+    assert state.results["hill_coefficient"] == pytest.approx(
+        math.log(81) / math.log(rv), rel=1e-12
+    )

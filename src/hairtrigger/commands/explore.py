@@ -112,9 +112,7 @@ def build_command(notebook: Path, app: str, port: int | None, browser: bool) -> 
     """The server command line (loopback only; ``--allow-root`` when running as root)."""
     module = {"lab": "jupyterlab", "voila": "voila"}[app]
     if importlib.util.find_spec(module) is None:
-        msg = (
-            f"{module} is not installed; install the app extra: pip install 'hairtrigger[app]'"
-        )
+        msg = f"{module} is not installed; install the app extra: pip install 'hairtrigger[app]'"
         raise UserError(msg)
     command = [sys.executable, "-m", module]
     if app == "lab":
@@ -169,18 +167,31 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
             "the 'app' extra: pip install 'hairtrigger[app]'."
         ),
     )
-    parser.add_argument("snapshot", nargs="?", metavar="SNAPSHOT",
-                        help="a snapshot file (.json), or example:NAME for a bundled example, "
-                        "to open in the explorer (default: the notebook's own scenario)")
-    parser.add_argument("--app", choices=("lab", "voila"), default="lab",
-                        help="JupyterLab (default) or Voila (the notebook as an app)")
-    parser.add_argument("--dir", metavar="DIR",
-                        help=f"working folder for the notebook copy (default ./{DEFAULT_DIR} "
-                        "when installed; forces a copy from a source checkout)")
-    parser.add_argument("--fresh", action="store_true",
-                        help="replace an existing copy in the working folder")
+    parser.add_argument(
+        "snapshot",
+        nargs="?",
+        metavar="SNAPSHOT",
+        help="a snapshot file (.json), or example:NAME for a bundled example, "
+        "to open in the explorer (default: the notebook's own scenario)",
+    )
+    parser.add_argument(
+        "--app",
+        choices=("lab", "voila"),
+        default="lab",
+        help="JupyterLab (default) or Voila (the notebook as an app)",
+    )
+    parser.add_argument(
+        "--dir",
+        metavar="DIR",
+        help=f"working folder for the notebook copy (default ./{DEFAULT_DIR} "
+        "when installed; forces a copy from a source checkout)",
+    )
+    parser.add_argument(
+        "--fresh", action="store_true", help="replace an existing copy in the working folder"
+    )
     parser.add_argument("--port", type=int, metavar="PORT", help="server port")
     parser.add_argument("--no-browser", action="store_true", help="do not open a browser")
-    parser.add_argument("--dry-run", action="store_true",
-                        help="print the command that would run, and exit")
+    parser.add_argument(
+        "--dry-run", action="store_true", help="print the command that would run, and exit"
+    )
     parser.set_defaults(func=run)

@@ -34,6 +34,13 @@ from pathlib import Path
 from typing import Any, Final, NoReturn
 
 from ..core.cascade import Cascade, CascadeLevel, EnzymeConstants
+from ._strict_json import (
+    JSONRefusal,
+    decode_utf8,
+    describe_json_value,
+    parse_strict_json,
+    read_bounded,
+)
 from .files import atomic_write
 
 __all__ = [
@@ -110,20 +117,7 @@ def _fail(field: str | None, problem: str) -> NoReturn:
     raise CascadeFileError(field, problem)
 
 
-def _describe(value: Any) -> str:
-    if value is None:
-        return "null"
-    if isinstance(value, bool):
-        return f"{'true' if value else 'false'} (a boolean)"
-    if isinstance(value, str):
-        return f"{json.dumps(value[:40])} (a string)"
-    if isinstance(value, numbers.Real):
-        return repr(value)
-    if isinstance(value, Mapping):
-        return "an object"
-    if isinstance(value, list | tuple):
-        return "a list"
-    return f"a {type(value).__name__}"
+_describe = describe_json_value
 
 
 def _number(field: str, value: Any, unit: str, *, allow_zero: bool = False) -> float:
@@ -279,31 +273,13 @@ def cascade_to_dict(cascade: Cascade) -> dict[str, Any]:
     }
 
 
-def _refuse_constant(token: str) -> NoReturn:
-    _fail(None, f"{token} is not a JSON number; write a finite number")
-
-
-def _refuse_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
-    out: dict[str, Any] = {}
-    for key, value in pairs:
-        if key in out:
-            _fail(key, "appears twice in one object")
-        out[key] = value
-    return out
-
-
 def loads_cascade(text: str | bytes, source: str | None = None) -> Cascade:
     """Parse and validate cascade JSON text."""
     try:
-        if isinstance(text, bytes):
-            try:
-                text = text.decode("utf-8-sig")
-            except UnicodeDecodeError as exc:
-                _fail(None, f"is not UTF-8 text ({exc.reason} at byte {exc.start})")
         try:
-            document = json.loads(
-                text, parse_constant=_refuse_constant, object_pairs_hook=_refuse_duplicates
-            )
+            document = parse_strict_json(decode_utf8(text) if isinstance(text, bytes) else text)
+        except JSONRefusal as exc:
+            _fail(None, str(exc))
         except json.JSONDecodeError as exc:
             _fail(None, f"is not valid JSON: {exc.msg} (line {exc.lineno}, column {exc.colno})")
         return cascade_from_dict(document)
@@ -332,14 +308,10 @@ def load_cascade(path: str | os.PathLike[str]) -> Cascade:
         The file does not exist or cannot be read.
     """
     file = Path(os.fspath(path))
-    if file.is_dir():
-        raise CascadeFileError(None, "is a folder, not a cascade file", str(file))
-    with open(file, "rb") as handle:
-        data = handle.read(MAX_CASCADE_BYTES + 1)
-    if len(data) > MAX_CASCADE_BYTES:
-        raise CascadeFileError(
-            None, f"is larger than {MAX_CASCADE_BYTES} bytes; not a cascade file", str(file)
-        )
+    try:
+        data = read_bounded(file, MAX_CASCADE_BYTES, "cascade file")
+    except JSONRefusal as exc:
+        raise CascadeFileError(None, str(exc), str(file)) from None
     return loads_cascade(data, source=str(file))
 
 

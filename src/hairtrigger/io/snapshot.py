@@ -31,7 +31,6 @@ import math
 import numbers
 import os
 import re
-import stat
 import types
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -41,6 +40,13 @@ from pathlib import Path
 from typing import Any, Final, NoReturn
 
 from ..core.params import CYCLE_KEYS, CYCLE_UNITS, MODELS, READOUTS, Cycle
+from ._strict_json import (
+    JSONRefusal,
+    decode_utf8,
+    describe_json_value,
+    parse_strict_json,
+    read_bounded,
+)
 from .files import atomic_write
 
 __all__ = [
@@ -138,26 +144,7 @@ def _fail(field: str | None, problem: str) -> NoReturn:
     raise SnapshotError(field, problem)
 
 
-def _describe(value: Any) -> str:
-    """Show a JSON value in a message the way it appears in the file, with its JSON type."""
-    if value is None:
-        return "null"
-    if isinstance(value, bool):
-        return f"{'true' if value else 'false'} (a boolean)"
-    if isinstance(value, str):
-        shown = value if len(value) <= 40 else value[:37] + "..."
-        return f"{json.dumps(shown, ensure_ascii=False)} (a string)"
-    if isinstance(value, numbers.Integral):
-        return repr(int(value))
-    if isinstance(value, numbers.Real):
-        return repr(float(value))
-    if isinstance(value, numbers.Number):
-        return repr(value)
-    if isinstance(value, Mapping):
-        return "an object"
-    if isinstance(value, list | tuple):
-        return "a list"
-    return f"a {type(value).__name__}"
+_describe = describe_json_value
 
 
 # --- field checks (shared by the loader and the Snapshot constructor) ------------------------
@@ -489,38 +476,6 @@ def snapshot_from_dict(document: Mapping[str, Any]) -> Snapshot:
 # --- text <-> Snapshot -----------------------------------------------------------------------
 
 
-class _JSONRefusal(Exception):
-    """Raised inside the JSON parser for input the format refuses (converted to SnapshotError)."""
-
-
-def _refuse_constant(token: str) -> NoReturn:
-    # Python's json accepts these non-standard tokens by default; JSON itself does not.
-    raise _JSONRefusal(f"the token {token} is not valid JSON (numbers must be finite)")
-
-
-def _refuse_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
-    result: dict[str, Any] = {}
-    for key, value in pairs:
-        if key in result:
-            raise _JSONRefusal(f'the key "{key}" appears twice in one object')
-        result[key] = value
-    return result
-
-
-def _decode(data: bytes) -> str:
-    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        _fail(None, "the file is UTF-16 text; save it as UTF-8")
-    try:
-        return data.decode("utf-8-sig")  # tolerate the byte-order mark some editors write
-    except UnicodeDecodeError as exc:
-        line = data.count(b"\n", 0, exc.start) + 1
-        _fail(
-            None,
-            f"not valid UTF-8 text: byte 0x{data[exc.start]:02x} at line {line} "
-            f"(byte offset {exc.start})",
-        )
-
-
 def _too_large(size: int) -> NoReturn:
     _fail(None, f"{size} bytes is over the {MAX_SNAPSHOT_BYTES}-byte limit for a snapshot file")
 
@@ -555,19 +510,20 @@ def loads_snapshot(
             data = bytes(text)
             if len(data) > MAX_SNAPSHOT_BYTES:
                 _too_large(len(data))
-            decoded = _decode(data)
+            try:
+                decoded = decode_utf8(data)
+            except JSONRefusal as exc:
+                _fail(None, str(exc))
         else:
             msg = f"`text` must be str or bytes; got {type(text).__name__}"
             raise TypeError(msg)
         if not decoded.strip():
             _fail(None, "the file is empty; a snapshot is a JSON object")
         try:
-            document = json.loads(
-                decoded, parse_constant=_refuse_constant, object_pairs_hook=_refuse_duplicates
-            )
+            document = parse_strict_json(decoded)
         except json.JSONDecodeError as exc:
             _fail(None, f"not valid JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}")
-        except _JSONRefusal as exc:
+        except JSONRefusal as exc:
             _fail(None, str(exc))
         except RecursionError:
             _fail(None, "not a snapshot: the JSON is nested too deeply")
@@ -590,22 +546,6 @@ def dumps_snapshot(snapshot: Snapshot) -> str:
 
 
 # --- files -----------------------------------------------------------------------------------
-
-
-def _read_bounded(path: Path) -> bytes:
-    """Read at most `MAX_SNAPSHOT_BYTES` (refusing larger files before reading them)."""
-    info = path.stat()  # FileNotFoundError / PermissionError propagate (OSError)
-    if stat.S_ISDIR(info.st_mode):
-        _fail(None, "is a folder, not a snapshot file")
-    if not stat.S_ISREG(info.st_mode):
-        _fail(None, "is not a regular file")
-    if info.st_size > MAX_SNAPSHOT_BYTES:
-        _too_large(info.st_size)
-    with path.open("rb") as handle:
-        data = handle.read(MAX_SNAPSHOT_BYTES + 1)
-    if len(data) > MAX_SNAPSHOT_BYTES:  # the file grew after the size check
-        _fail(None, f"over the {MAX_SNAPSHOT_BYTES}-byte limit for a snapshot file")
-    return data
 
 
 def load_snapshot(path: str | os.PathLike[str]) -> Snapshot:
@@ -632,9 +572,9 @@ def load_snapshot(path: str | os.PathLike[str]) -> Snapshot:
     """
     file = Path(os.fspath(path))
     try:
-        data = _read_bounded(file)
-    except SnapshotError as exc:
-        raise exc.with_source(str(file)) from None
+        data = read_bounded(file, MAX_SNAPSHOT_BYTES, "snapshot file")
+    except JSONRefusal as exc:
+        raise SnapshotError(None, str(exc), str(file)) from None
     return loads_snapshot(data, source=str(file))
 
 

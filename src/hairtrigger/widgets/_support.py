@@ -259,8 +259,9 @@ class BusyIndicator(w.HTML):
             job = self._jobs
             self._running.append((job, label))
             if self._watchdog is None:
-                self._watchdog = threading.Thread(target=self._watch, daemon=True,
-                                                  name="hairtrigger-busy")
+                self._watchdog = threading.Thread(
+                    target=self._watch, daemon=True, name="hairtrigger-busy"
+                )
                 self._watchdog.start()
             self._wake.notify_all()
         try:

@@ -108,7 +108,9 @@ def encode_png(rgba: ArrayLike) -> bytes:
 
     def chunk(kind: bytes, data: bytes) -> bytes:
         body = kind + data
-        return struct.pack(">I", len(data)) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
+        return (
+            struct.pack(">I", len(data)) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
+        )
 
     header = struct.pack(">IIBBBBB", width, height, 8, 6, 0, 0, 0)
     return b"".join(

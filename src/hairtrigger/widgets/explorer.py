@@ -32,7 +32,9 @@ _CSS: Final[str] = """
 .hairtrigger-explorer .widget-html-content { line-height: 1.35; }
 .hairtrigger-explorer .hairtrigger-message .widget-html-content { font-size: 85%; }
 .hairtrigger-explorer .jupyter-widgets:focus-visible,
-.hairtrigger-explorer .noUi-handle:focus-visible { outline: 2px solid #0072B2; outline-offset: 1px; }
+.hairtrigger-explorer .noUi-handle:focus-visible {
+  outline: 2px solid #0072B2; outline-offset: 1px;
+}
 </style>
 """
 
@@ -54,6 +56,8 @@ class Explorer(w.VBox):
         The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
     controls, curve, time_course, steepness, table, snapshots : panels
         The panels; each also works on its own with the same state.
+    tabs : ipywidgets.Tab
+        The tabbed area under the map (Readout, Snapshots, and any added with `add_tab`).
 
     Raises
     ------
@@ -77,31 +81,91 @@ class Explorer(w.VBox):
         self.controls = ControlsPanel(state)
         self.curve = ResponseCurvePanel(state, width="460px", height="290px")
         self.time_course = TimeCoursePanel(state, width="460px", height="240px")
-        self.steepness = SteepnessMapPanel(state, width="330px", height="330px")
-        self.table = ReadoutTable(state, width="430px")
+        self.steepness = SteepnessMapPanel(state, width="320px", height="320px")
+        self.table = ReadoutTable(state, width="400px")
         self.snapshots = SnapshotPanel(state)
         left = w.VBox(
             [self.controls],
-            layout=w.Layout(width="345px", min_width="345px", max_height="740px",
-                            overflow="auto", padding="0 6px 0 0"),
+            layout=w.Layout(
+                width="330px",
+                min_width="330px",
+                max_height="740px",
+                overflow="auto",
+                padding="0 6px 0 0",
+            ),
         )
-        right_tabs = w.Tab(children=[self.table, self.snapshots],
-                           layout=w.Layout(width="445px"))
-        right_tabs.set_title(0, "Readout")
-        right_tabs.set_title(1, "Snapshots")
-        middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="470px"))
-        right = w.VBox([self.steepness, right_tabs], layout=w.Layout(width="450px"))
+        self.tabs = w.Tab(layout=w.Layout(width="428px"))
+        self.add_tab("Readout", self.table)
+        self.add_tab("Snapshots", self.snapshots)
+        middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
+        right = w.VBox([self.steepness, self.tabs], layout=w.Layout(width="435px"))
         header = w.HBox(
-            [w.HTML(f"{_CSS}<b style='font-size:120%'>{APP_NAME}</b> "
+            [
+                w.HTML(
+                    f"{_CSS}<b style='font-size:120%'>{APP_NAME}</b> "
                     "<span style='color:#4d4d4d'>covalent-modification switch explorer — "
-                    "predictions need experimental confirmation</span>"),
-             self.busy, self.message],
+                    "predictions need experimental confirmation</span>"
+                ),
+                self.busy,
+                self.message,
+            ],
             layout=w.Layout(align_items="center", justify_content="flex-start"),
         )
         super().__init__(
-            children=[header, w.HBox([left, middle, right], layout=w.Layout(width="1270px"))],
+            children=[
+                header,
+                w.HBox(
+                    [left, middle, right],
+                    # One row in a 1280-px window (Voila); narrower output areas (JupyterLab with a
+                    # side bar) wrap the map column below instead of scrolling sideways.
+                    layout=w.Layout(flex_flow="row wrap", max_width="1240px"),
+                ),
+            ],
         )
         self.add_class("hairtrigger-explorer")
+
+    def add_tab(self, title: str, panel: w.Widget, select: bool = False) -> int:
+        """Add `panel` as a tab beside the readout table and the snapshots.
+
+        The panel should observe `state` (build it with ``Panel(explorer.state)``) and not
+        talk to the other panels. Keep it within the tab area (about 420 px wide) so
+        the explorer still fits a 1280-px window.
+
+        Parameters
+        ----------
+        title : str
+            Tab title (short: the tab bar is about 430 px wide).
+        panel : ipywidgets.Widget
+            The panel to show.
+        select : bool
+            Bring the new tab to the front.
+
+        Returns
+        -------
+        int
+            Index of the new tab.
+
+        Raises
+        ------
+        ValueError
+            `title` is empty, or `panel` is not a widget or is already a tab.
+        """
+        if not isinstance(title, str) or not title.strip():
+            msg = f"`title` must be a non-empty string; got {title!r}"
+            raise ValueError(msg)
+        if not isinstance(panel, w.Widget):
+            msg = f"`panel` must be an ipywidgets widget; got {type(panel).__name__}"
+            raise ValueError(msg)
+        if any(child is panel for child in self.tabs.children):
+            msg = f"`panel` is already a tab ({type(panel).__name__})"
+            raise ValueError(msg)
+        titles = (*self.tabs.titles, title.strip())
+        with self.tabs.hold_sync():
+            self.tabs.children = (*self.tabs.children, panel)
+            self.tabs.titles = titles
+            if select:
+                self.tabs.selected_index = len(titles) - 1
+        return len(titles) - 1
 
     def flush(self) -> None:
         """Run pending debounced work now (map recompute, download link)."""

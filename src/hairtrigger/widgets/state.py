@@ -37,7 +37,14 @@ from traitlets import (
     observe,
 )
 
-from ..core import CYCLE_KEYS, MAP_MEASURES, MODELS, READOUTS, Cycle, SteadyState, evaluate, steady_state
+from ..core import (
+    CYCLE_KEYS,
+    MAP_MEASURES,
+    MODELS,
+    READOUTS,
+    Cycle,
+    evaluate,
+)
 
 #: Model names as shown to users.
 MODEL_LABELS: Final[dict[str, str]] = {
@@ -120,21 +127,54 @@ def _check_bounded(name: str, value: Any, low: float, high: float, unit: str) ->
 
 #: The explorer's parameters, in the order the controls show them.
 PARAMETERS: Final[tuple[ParameterSpec, ...]] = (
-    ParameterSpec("activity_ratio", "r = V1/V2", "activity ratio, kinase over phosphatase "
-                  "maximal rate (the input; set through the kinase amount)", "", 1e-3, 1e3, 1.0),
-    ParameterSpec("K1", "K1 = M1/W", "kinase Michaelis constant over total substrate", "",
-                  1e-4, 1e2, 0.05),
-    ParameterSpec("K2", "K2 = M2/W", "phosphatase Michaelis constant over total substrate", "",
-                  1e-4, 1e2, 0.05),
-    ParameterSpec("phosphatase_ratio", "E2/W", "total phosphatase over total substrate", "",
-                  1e-4, 1e1, 0.02),
+    ParameterSpec(
+        "activity_ratio",
+        "r = V1/V2",
+        "activity ratio, kinase over phosphatase "
+        "maximal rate (the input; set through the kinase amount)",
+        "",
+        1e-3,
+        1e3,
+        1.0,
+    ),
+    ParameterSpec(
+        "K1", "K1 = M1/W", "kinase Michaelis constant over total substrate", "", 1e-4, 1e2, 0.05
+    ),
+    ParameterSpec(
+        "K2",
+        "K2 = M2/W",
+        "phosphatase Michaelis constant over total substrate",
+        "",
+        1e-4,
+        1e2,
+        0.05,
+    ),
+    ParameterSpec(
+        "phosphatase_ratio", "E2/W", "total phosphatase over total substrate", "", 1e-4, 1e1, 0.02
+    ),
     ParameterSpec("substrate_total", "W", "total substrate", "µM", 1e-3, 1e3, 1.0),
     ParameterSpec("kinase_kcat", "k1", "kinase turnover number", "1/s", 1e-3, 1e3, 10.0),
     ParameterSpec("phosphatase_kcat", "k2", "phosphatase turnover number", "1/s", 1e-3, 1e3, 10.0),
-    ParameterSpec("kinase_kon", "a1", "kinase–substrate binding rate constant", "1/(µM·s)",
-                  1e-1, 1e5, 1000.0, mass_action_only=True),
-    ParameterSpec("phosphatase_kon", "a2", "phosphatase–substrate binding rate constant",
-                  "1/(µM·s)", 1e-1, 1e5, 1000.0, mass_action_only=True),
+    ParameterSpec(
+        "kinase_kon",
+        "a1",
+        "kinase–substrate binding rate constant",
+        "1/(µM·s)",
+        1e-1,
+        1e5,
+        1000.0,
+        mass_action_only=True,
+    ),
+    ParameterSpec(
+        "phosphatase_kon",
+        "a2",
+        "phosphatase–substrate binding rate constant",
+        "1/(µM·s)",
+        1e-1,
+        1e5,
+        1000.0,
+        mass_action_only=True,
+    ),
 )
 
 #: Specs by trait name.
@@ -142,13 +182,24 @@ PARAMETER_SPECS: Final[dict[str, ParameterSpec]] = {spec.name: spec for spec in 
 
 #: The time-course target (activity ratio after the step) has the activity ratio's bounds.
 STEP_SPEC: Final[ParameterSpec] = ParameterSpec(
-    "step_activity_ratio", "r after step", "activity ratio after the step at t = 0 (the kinase "
-    "amount changes)", "", 1e-3, 1e3, 1.5,
+    "step_activity_ratio",
+    "r after step",
+    "activity ratio after the step at t = 0 (the kinase amount changes)",
+    "",
+    1e-3,
+    1e3,
+    1.5,
 )
 
 #: The steepness level outlined on the map (in the units of the measure shown).
 TARGET_SPEC: Final[ParameterSpec] = ParameterSpec(
-    "map_target", "outline at", "steepness level outlined on the map", "", 1e-3, 1e6, 4.0,
+    "map_target",
+    "outline at",
+    "steepness level outlined on the map",
+    "",
+    1e-3,
+    1e6,
+    4.0,
 )
 
 #: The kinase-to-substrate ratio, derived from the activity ratio (see `kinase_ratio`).
@@ -176,8 +227,13 @@ class BoundedFloat(TraitType[float, Any]):
 
 def _param(spec: ParameterSpec) -> BoundedFloat:
     return BoundedFloat(spec).tag(
-        param=True, unit=spec.unit, symbol=spec.symbol, low=spec.low, high=spec.high,
-        scale="log", mass_action_only=spec.mass_action_only,
+        param=True,
+        unit=spec.unit,
+        symbol=spec.symbol,
+        low=spec.low,
+        high=spec.high,
+        scale="log",
+        mass_action_only=spec.mass_action_only,
     )
 
 
@@ -260,14 +316,17 @@ class ExplorerState(HasTraits):
     # View settings (saved with snapshots under "view").
     step_activity_ratio = BoundedFloat(STEP_SPEC).tag(view=True, unit="", scale="log")
     threshold_basis = Enum(
-        THRESHOLD_BASES, default_value="absolute",
+        THRESHOLD_BASES,
+        default_value="absolute",
         help="EC markers as fractions of total substrate (absolute) or of the ceiling (relative)",
     ).tag(view=True)
-    map_measure = Enum(MAP_MEASURES, default_value="hill_coefficient",
-                       help="steepness measure drawn on the map").tag(view=True)
+    map_measure = Enum(
+        MAP_MEASURES, default_value="hill_coefficient", help="steepness measure drawn on the map"
+    ).tag(view=True)
     map_target = BoundedFloat(TARGET_SPEC).tag(view=True, unit="")
-    map_resolution = Enum(MAP_RESOLUTIONS, default_value=128,
-                          help="map cells per side").tag(view=True)
+    map_resolution = Enum(MAP_RESOLUTIONS, default_value=128, help="map cells per side").tag(
+        view=True
+    )
 
     title = Unicode("", help="snapshot title")
     notes = Unicode("", help="snapshot notes")
@@ -276,8 +335,12 @@ class ExplorerState(HasTraits):
     # Derived (read-only from outside; set by `recompute`).
     cycle = Instance(Cycle, read_only=True, allow_none=True, help="the cycle in core units")
     results = Dict(read_only=True, help="`hairtrigger evaluate` results at the current point")
-    time_course = Instance(TimeCourseView, read_only=True, allow_none=True,
-                           help="step response from the current to the step activity ratio")
+    time_course = Instance(
+        TimeCourseView,
+        read_only=True,
+        allow_none=True,
+        help="step response from the current to the step activity ratio",
+    )
     problem = Unicode("", read_only=True, help="why the last recompute failed ('' if it did not)")
     revision = Int(0, read_only=True, help="incremented after every recompute")
 
@@ -434,8 +497,9 @@ class ExplorerState(HasTraits):
             with self.progress("results"):
                 cycle = self.to_cycle()
                 results = evaluate(cycle, self.model, self.readout)
-                course = compute_time_course(cycle, self.model, self.readout,
-                                             self.step_activity_ratio)
+                course = compute_time_course(
+                    cycle, self.model, self.readout, self.step_activity_ratio
+                )
             problem = ""
         except Exception as exc:  # noqa: BLE001 - a failed recompute is reported, not raised
             cycle, results, course = self.cycle, dict(self.results), self.time_course
@@ -447,7 +511,6 @@ class ExplorerState(HasTraits):
             self.set_trait("problem", problem)
             self.last_recompute_seconds = time.perf_counter() - start
             self.set_trait("revision", self.revision + 1)
-
 
     # --- snapshots --------------------------------------------------------------------------
     def view_settings(self) -> dict[str, Any]:
@@ -467,8 +530,15 @@ class ExplorerState(HasTraits):
         if self.pinned:
             extras["pinned"] = [snapshot_to_dict(p.replace(extras={})) for p in self.pinned]
         options: dict[str, Any] = {} if created is None else {"created": created}
-        return Snapshot(self.to_cycle(), self.model, self.readout, self.title, self.notes,
-                        extras=extras, **options)
+        return Snapshot(
+            self.to_cycle(),
+            self.model,
+            self.readout,
+            self.title,
+            self.notes,
+            extras=extras,
+            **options,
+        )
 
     def check_snapshot(self, snapshot: Any) -> tuple[dict[str, Any], tuple[Any, ...], list[str]]:
         """Validate a snapshot for this explorer without changing anything.
@@ -494,8 +564,12 @@ class ExplorerState(HasTraits):
             msg = f"`snapshot` must be a hairtrigger Snapshot; got {type(snapshot).__name__}"
             raise TypeError(msg)
         settings: dict[str, Any] = dict(self.check_cycle(snapshot.cycle))
-        settings.update(model=snapshot.model, readout=snapshot.readout, title=snapshot.title,
-                        notes=snapshot.notes)
+        settings.update(
+            model=snapshot.model,
+            readout=snapshot.readout,
+            title=snapshot.title,
+            notes=snapshot.notes,
+        )
         remarks: list[str] = []
         view = snapshot.extras.get("view", {})
         if not isinstance(view, Mapping):
@@ -552,8 +626,8 @@ class ExplorerState(HasTraits):
 #: Samples per time course.
 COURSE_POINTS: Final[int] = 200
 
-#: Times the window may be doubled when the course has not settled by its end.
-MAX_WINDOW_EXTENSIONS: Final[int] = 4
+#: The drawn window extends this far past the 99 % settling time.
+WINDOW_PAST_SETTLING: Final[float] = 1.25
 
 
 def cycle_arrays(cycle: Cycle) -> dict[str, float]:
@@ -561,36 +635,8 @@ def cycle_arrays(cycle: Cycle) -> dict[str, float]:
     return {key: getattr(cycle, key) for key in CYCLE_KEYS}
 
 
-def _settling_window(before: SteadyState, after_state: SteadyState, after: Cycle) -> float:
-    """A time window that covers the transit and the final relaxation of a step (s).
-
-    The zero-order transit moves the substrate at a nearly constant net rate, so its duration
-    is about ΔB / (net rate just after the step); the approach to the end then takes a few
-    linear relaxation times. Both are estimated in the quasi-steady picture, which is enough
-    to choose a window (the course itself is exact or integrated).
-    """
-    b0, a0 = float(before.modified), float(before.unmodified)
-    b1, a1 = float(after_state.modified), float(after_state.unmodified)
-    v1, v2 = after.kinase_vmax, after.phosphatase_vmax
-    m1, m2 = after.kinase_km, after.phosphatase_km
-    net = v1 * a0 / (m1 + a0) - v2 * b0 / (m2 + b0)
-    rate = v1 * m1 / (m1 + a1) ** 2 + v2 * m2 / (m2 + b1) ** 2
-    tau = 1.0 / rate if rate > 0 else after.substrate_total / max(v1, v2)
-    transit = abs(b1 - b0) / abs(net) if net != 0 else 0.0
-    return max(1.2 * transit + 8.0 * tau, 1e-9)
-
-
-def _crossing_time(t: np.ndarray, y: np.ndarray, level: float, rising: bool) -> float | None:
-    """First time the sampled course reaches `level` (linear interpolation), or None."""
-    reached = y >= level if rising else y <= level
-    if not reached.any():
-        return None
-    k = int(np.argmax(reached))
-    if k == 0:
-        return float(t[0])
-    y0, y1 = y[k - 1], y[k]
-    frac = (level - y0) / (y1 - y0) if y1 != y0 else 1.0
-    return float(t[k - 1] + frac * (t[k] - t[k - 1]))
+def _finite_or_none(value: float) -> float | None:
+    return float(value) if math.isfinite(value) else None
 
 
 def compute_time_course(
@@ -600,52 +646,96 @@ def compute_time_course(
 
     The kinase amount steps at t = 0 (``hairtrigger.core.timecourse.time_course``); the window
     is chosen to cover the transit and the settling, and doubled while the end is still more
-    than 1 % of the change away from the new steady state.
+    than 1 % of the change away from the new steady state. A step the core refuses (in the
+    mass-action model, binding rates too small for the Michaelis constants) gives a course
+    with ``success=False`` and a message saying what to change.
     """
     from ..core.timecourse import time_course
 
     after = cycle.with_activity_ratio(ratio_after)
-    before_state = steady_state(cycle_arrays(cycle), model)
-    after_state = steady_state(cycle_arrays(after), model)
-    target = float(after_state.readout(readout))
-    start = float(before_state.readout(readout))
-    change = target - start
-    t_end = _settling_window(before_state, after_state, after)
-    steps = {"kinase_total": after.kinase_total}
-    course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
-    for _ in range(MAX_WINDOW_EXTENSIONS):
-        end = course["readout"][-1]
-        if not course.success or not np.isfinite(end) or abs(end - target) <= 0.01 * abs(change):
-            break
-        t_end *= 2.0
-        course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
-    t = np.asarray(course["t"], dtype=float)
-    y = np.asarray(course["readout"], dtype=float)
-    rising = change > 0
-    half = switching = None
-    if abs(change) > 1e-12 * max(abs(start), abs(target), 1e-300) and course.success:
-        half = _crossing_time(t, y, start + 0.5 * change, rising)
-        t10 = _crossing_time(t, y, start + 0.1 * change, rising)
-        t90 = _crossing_time(t, y, start + 0.9 * change, rising)
-        switching = t90 - t10 if t10 is not None and t90 is not None else None
-    relaxation = None
-    if model == "quasi_steady":
-        y_star = target
-        k1, k2 = after.K1, after.K2
-        w = after.substrate_total
-        rate = (after.kinase_vmax * k1 / (k1 + 1.0 - y_star) ** 2
-                + after.phosphatase_vmax * k2 / (k2 + y_star) ** 2) / w
-        relaxation = 1.0 / rate
+    if model == "mass_action":
+        for who, symbol, kcat, km, kon in (
+            ("kinase", "a1", cycle.kinase_kcat, cycle.kinase_km, cycle.kinase_kon),
+            (
+                "phosphatase",
+                "a2",
+                cycle.phosphatase_kcat,
+                cycle.phosphatase_km,
+                cycle.phosphatase_kon,
+            ),
+        ):
+            if kon * km < kcat:
+                message = (
+                    f"the mass-action time course needs {symbol} >= k/M = {kcat / km:.4g} "
+                    f"1/(µM·s) for the {who} (dissociation rate a·M − k = {kon * km - kcat:.3g}"
+                    f"/s is negative); raise {symbol} or the {who} Km"
+                )
+                return _failed_course(cycle, ratio_after, message)
+    try:
+        return _step_response(cycle, after, model, readout, ratio_after, time_course)
+    except ValueError as exc:  # the core refused the step: data for the panel, not a crash
+        return _failed_course(cycle, ratio_after, str(exc))
+
+
+def _failed_course(cycle: Cycle, ratio_after: float, message: str) -> TimeCourseView:
+    empty = np.zeros(0)
+    species = {
+        k: empty for k in ("unmodified", "modified", "kinase_complex", "phosphatase_complex")
+    }
     return TimeCourseView(
-        t=t,
-        species={key: np.asarray(course[key], dtype=float) for key in
-                 ("unmodified", "modified", "kinase_complex", "phosphatase_complex")},
-        readout=y,
+        t=empty,
+        species=species,
+        readout=empty,
         ratio_before=cycle.activity_ratio,
         ratio_after=ratio_after,
-        half_time=half,
-        relaxation_time=relaxation,
-        switching_time=switching,
-        success=bool(course.success),
-        message=str(course.message),
+        success=False,
+        message=message,
+    )
+
+
+def _step_response(
+    cycle: Cycle,
+    after: Cycle,
+    model: str,
+    readout: str,
+    ratio_after: float,
+    time_course: Callable[..., Any],
+) -> TimeCourseView:
+    """Run the step in the core and reduce it to what the panels show.
+
+    The switching times come from `hairtrigger.core.switching.switching_metrics` (exact for the
+    quasi-steady model); its 99 % settling time sets the drawn window, so the transit and the
+    final approach are both on screen.
+    """
+    from ..core.switching import relaxation_time, switching_metrics
+
+    steps = {"kinase_total": after.kinase_total}
+    metrics = switching_metrics(cycle, steps, model, readout)
+    settling = metrics.settling_time
+    if metrics.direction != "none" and math.isfinite(settling) and settling > 0:
+        t_end = WINDOW_PAST_SETTLING * settling
+    else:
+        tau = float(relaxation_time(cycle_arrays(after), model))
+        t_end = 5.0 * tau if math.isfinite(tau) and tau > 0 else 1.0
+    course = time_course(cycle, steps, t_end, COURSE_POINTS, model=model, readout=readout)
+    message = (
+        course.message
+        if not course.success
+        else (metrics.message if not metrics.success or metrics.direction == "none" else "")
+    )
+    return TimeCourseView(
+        t=np.asarray(course["t"], dtype=float),
+        species={
+            key: np.asarray(course[key], dtype=float)
+            for key in ("unmodified", "modified", "kinase_complex", "phosphatase_complex")
+        },
+        readout=np.asarray(course["readout"], dtype=float),
+        ratio_before=cycle.activity_ratio,
+        ratio_after=ratio_after,
+        half_time=_finite_or_none(metrics.half_time),
+        relaxation_time=_finite_or_none(metrics.relaxation_time),
+        switching_time=_finite_or_none(metrics.time_10_90),
+        success=bool(course.success and metrics.success),
+        message=message,
+        extra={"settling_time": _finite_or_none(settling), "direction": metrics.direction},
     )

@@ -55,8 +55,14 @@ def axis(scale: bq.Scale, label: str, side: str, **kwargs: Any) -> bq.Axis:
     return bq.Axis(**options)
 
 
-def figure(marks: list[bq.Mark], axes: list[bq.Axis], width: str, height: str,
-           margin: dict[str, int] | None = None, **kwargs: Any) -> bq.Figure:
+def figure(
+    marks: list[bq.Mark],
+    axes: list[bq.Axis],
+    width: str,
+    height: str,
+    margin: dict[str, int] | None = None,
+    **kwargs: Any,
+) -> bq.Figure:
     """A figure with no animation (transitions pile up during drags) and fixed size."""
     from ipywidgets import Layout
 

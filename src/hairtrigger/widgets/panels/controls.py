@@ -86,7 +86,7 @@ class LogControl(w.VBox):
             description=label,
             tooltip=self.spec.description,
             style={"description_width": DESCRIPTION_WIDTH},
-            layout=w.Layout(width="250px"),
+            layout=w.Layout(width="240px"),
         )
         self.entry = w.Text(
             value=format_value(self.current()),
@@ -123,11 +123,30 @@ class LogControl(w.VBox):
         setattr(self._state, self.name, value)
 
     # --- events ---------------------------------------------------------------------------
+    def is_echo(self, value: float) -> bool:
+        """True if `value` is the slider's snapped image of the state's current value.
+
+        When the kernel sets a value that is not on the slider's step grid (a typed entry, a
+        loaded snapshot, a map click), the browser's FloatLogSlider snaps its handle to the
+        grid and sends the snapped value back, even though nobody moved it (ipywidgets 8.1
+        with ``continuous_update=True``). Taking that echo would silently change the state
+        (0.95 would become 0.955), so it is ignored; a real move lands on another grid point.
+        """
+        slider = self.slider
+        current = self.current()
+        if not (value > 0 and current > 0):
+            return False
+        base = slider.base
+        position = math.log(current, base)
+        snapped = slider.min + round((position - slider.min) / slider.step) * slider.step
+        snapped = min(max(snapped, slider.min), slider.max)
+        return abs(math.log(value, base) - snapped) <= 1e-6 * slider.step
+
     def _on_slider(self, change: Mapping[str, Any]) -> None:
         @reporting(lambda: self.message)
         def run() -> None:
             value = float(change["new"])
-            if value != self.current():
+            if value != self.current() and not self.is_echo(value):
                 self.apply(value)
             self.message.clear()
 
@@ -170,8 +189,14 @@ class KinaseRatioControl(LogControl):
 
     def __init__(self, state: ExplorerState) -> None:
         spec = ParameterSpec(
-            "kinase_ratio", KINASE_RATIO_SYMBOL, "total kinase over total substrate (sets the "
-            "activity ratio at the current phosphatase level and turnovers)", "", 0.0, 0.0, 0.0,
+            "kinase_ratio",
+            KINASE_RATIO_SYMBOL,
+            "total kinase over total substrate (sets the "
+            "activity ratio at the current phosphatase level and turnovers)",
+            "",
+            0.0,
+            0.0,
+            0.0,
         )
         super().__init__(state, "kinase_ratio", spec=spec)
 
@@ -206,8 +231,14 @@ class ChoiceControl(w.VBox):
 
     state = Instance(ExplorerState)
 
-    def __init__(self, state: ExplorerState, name: str, options: list[tuple[str, str]],
-                 description: str, tooltip: str) -> None:
+    def __init__(
+        self,
+        state: ExplorerState,
+        name: str,
+        options: list[tuple[str, str]],
+        description: str,
+        tooltip: str,
+    ) -> None:
         self.name = name
         self.dropdown = w.Dropdown(
             options=options,
@@ -215,7 +246,7 @@ class ChoiceControl(w.VBox):
             description=description,
             tooltip=tooltip,
             style={"description_width": DESCRIPTION_WIDTH},
-            layout=w.Layout(width="330px"),
+            layout=w.Layout(width="318px"),
         )
         self.message = MessageLine()
         super().__init__(children=[self.dropdown, self.message], state=state)
@@ -253,12 +284,18 @@ class ControlsPanel(w.VBox):
 
     def __init__(self, state: ExplorerState) -> None:
         self.model_control = ChoiceControl(
-            state, "model", [(MODEL_LABELS[m], m) for m in MODELS], "model",
+            state,
+            "model",
+            [(MODEL_LABELS[m], m) for m in MODELS],
+            "model",
             "quasi-steady neglects enzyme-substrate complexes; mass action keeps them "
             "(sequestration)",
         )
         self.readout_control = ChoiceControl(
-            state, "readout", [(READOUT_LABELS[r], r) for r in READOUTS], "readout",
+            state,
+            "readout",
+            [(READOUT_LABELS[r], r) for r in READOUTS],
+            "readout",
             "what the assay measures; under sequestration the two differ",
         )
         self.controls: dict[str, LogControl] = {}

@@ -30,7 +30,7 @@ CURVE_POINTS: Final[int] = 400
 
 #: Width of the activity-ratio window, in decades, keyed by the label shown.
 SPANS: Final[dict[str, float | None]] = {
-    "whole range": None,
+    "whole r range": None,
     "4 decades": 4.0,
     "2 decades": 2.0,
     "1 decade": 1.0,
@@ -87,60 +87,125 @@ class ResponseCurvePanel(w.VBox):
         self.x_scale = bq.LogScale(min=spec.low, max=spec.high)
         self.y_scale = bq.LinearScale(min=0.0, max=1.0)
         scales = {"x": self.x_scale, "y": self.y_scale}
-        empty = np.zeros(2)
+        # Placeholders must be positive: zero on a log scale is NaN in the browser.
+        empty = np.ones(2)
         self.band = bq.Lines(
-            x=empty, y=empty, scales=scales, fill="inside", colors=["#bbbbbb"],
-            fill_colors=["#bbbbbb"], fill_opacities=[0.25], opacities=[0.0], visible=False,
+            x=empty,
+            y=empty,
+            scales=scales,
+            fill="inside",
+            # With fill="inside" bqplot applies `opacities` to the filled path as a whole, so
+            # the outline is hidden by a matching colour and width, not by opacity 0.
+            colors=["#9aa9b8"],
+            fill_colors=["#9aa9b8"],
+            fill_opacities=[0.3],
+            stroke_width=0.5,
+            visible=False,
         )
         self.ceiling_line = bq.Lines(
-            x=empty, y=empty, scales=scales, colors=["#222222"], line_style="dashed",
+            x=empty,
+            y=empty,
+            scales=scales,
+            colors=["#222222"],
+            line_style="dashed",
             stroke_width=1.0,
         )
         self.quasi_line = bq.Lines(
-            x=empty, y=empty, scales=scales, colors=[QUASI_COLOUR], line_style="dashed",
-            stroke_width=1.5, visible=False,
+            x=empty,
+            y=empty,
+            scales=scales,
+            colors=[QUASI_COLOUR],
+            line_style="dashed",
+            stroke_width=1.5,
+            visible=False,
         )
         self.pinned_lines = bq.Lines(
-            x=np.zeros((1, 2)), y=np.zeros((1, 2)), scales=scales, colors=list(PINNED_COLOURS),
-            stroke_width=1.5, line_style="dash_dotted", visible=False,
+            x=np.ones((1, 2)),
+            y=np.zeros((1, 2)),
+            scales=scales,
+            colors=list(PINNED_COLOURS),
+            stroke_width=1.5,
+            line_style="dash_dotted",
+            visible=False,
         )
         self.unmodified_line = bq.Lines(
-            x=empty, y=empty, scales=scales, colors=[UNMODIFIED_COLOUR], stroke_width=2.0,
+            x=empty,
+            y=empty,
+            scales=scales,
+            colors=[UNMODIFIED_COLOUR],
+            stroke_width=2.0,
         )
         self.readout_line = bq.Lines(
-            x=empty, y=empty, scales=scales, colors=[READOUT_COLOUR], stroke_width=2.5,
+            x=empty,
+            y=empty,
+            scales=scales,
+            colors=[READOUT_COLOUR],
+            stroke_width=2.5,
         )
         self.thresholds = bq.Scatter(
-            x=np.ones(1), y=np.zeros(1), scales=scales, marker="diamond", default_size=48,
-            colors=["#111111"], stroke="white", visible=False,
+            x=np.ones(1),
+            y=np.zeros(1),
+            scales=scales,
+            marker="diamond",
+            default_size=48,
+            colors=["#111111"],
+            stroke="white",
+            visible=False,
         )
         self.operating_point = bq.Scatter(
-            x=np.ones(1), y=np.zeros(1), scales=scales, marker="circle", default_size=90,
-            colors=[READOUT_COLOUR], stroke="black", stroke_width=1.5,
+            x=np.ones(1),
+            y=np.zeros(1),
+            scales=scales,
+            marker="circle",
+            default_size=90,
+            colors=[READOUT_COLOUR],
+            stroke="black",
+            stroke_width=1.5,
         )
-        self.x_axis = axis(self.x_scale, "activity ratio r = V1/V2 (kinase amount varied)",
-                           "bottom", tick_format="~g")
-        self.y_axis = axis(self.y_scale, "fraction of total substrate W", "left",
-                           tick_format=".1f")
+        self.x_axis = axis(
+            self.x_scale,
+            "activity ratio r = V1/V2 (kinase amount varied)",
+            "bottom",
+            tick_format="~g",
+        )
+        self.y_axis = axis(self.y_scale, "fraction of total substrate W", "left", tick_format=".1f")
         self.figure = figure(
-            [self.band, self.ceiling_line, self.quasi_line, self.pinned_lines,
-             self.unmodified_line, self.readout_line, self.thresholds, self.operating_point],
-            [self.x_axis, self.y_axis], width, height,
+            [
+                self.band,
+                self.ceiling_line,
+                self.quasi_line,
+                self.pinned_lines,
+                self.unmodified_line,
+                self.readout_line,
+                self.thresholds,
+                self.operating_point,
+            ],
+            [self.x_axis, self.y_axis],
+            width,
+            height,
         )
         self.span = w.Dropdown(
-            options=list(SPANS), value="4 decades", description="window",
+            options=list(SPANS),
+            value="4 decades",
             tooltip="activity-ratio window, centred on EC50 (the operating point moves within it)",
-            style={"description_width": "52px"}, layout=w.Layout(width="190px"),
+            layout=w.Layout(width="128px"),
         )
         self.basis = w.ToggleButtons(
-            options=[("of W", "absolute"), ("of ceiling", "relative")], value=state.threshold_basis,
+            options=[("of W", "absolute"), ("of ceiling", "relative")],
+            value=state.threshold_basis,
             tooltip="EC markers and band as fractions of total substrate or of the ceiling",
-            style={"button_width": "82px"},
+            style={"button_width": "84px"},
         )
         self.legend = w.HTML()
         self.message = MessageLine()
-        header = w.HBox([w.HTML("<b>Steady-state response</b>"), self.span, self.basis],
-                        layout=w.Layout(align_items="center"))
+        header = w.HBox(
+            [
+                w.HTML("<b>Steady-state response</b>", layout=w.Layout(width="140px")),
+                self.span,
+                self.basis,
+            ],
+            layout=w.Layout(align_items="center", flex_flow="row nowrap"),
+        )
         super().__init__(children=[header, self.figure, self.legend, self.message], state=state)
         self.add_class("hairtrigger-curve")
         self._cache_key: tuple[Any, ...] | None = None
@@ -174,8 +239,11 @@ class ResponseCurvePanel(w.VBox):
         block = results["relative"] if relative else results
         top = results["readout_ceiling"] if relative else 1.0
         xs, ys = [], []
-        for frac, key in ((0.1, "activity_ratio_10"), (0.5, "activity_ratio_50"),
-                          (0.9, "activity_ratio_90")):
+        for frac, key in (
+            (0.1, "activity_ratio_10"),
+            (0.5, "activity_ratio_50"),
+            (0.9, "activity_ratio_90"),
+        ):
             value = block[key]
             if _finite(value, top):
                 xs.append(value)
@@ -288,7 +356,7 @@ class ResponseCurvePanel(w.VBox):
         if state.model == "mass_action":
             items.append((QUASI_COLOUR, "dashed", "quasi-steady (no sequestration)"))
         items.append(("#222222", "dashed", f"ceiling {state.results['readout_ceiling']:.3g}"))
-        items.append(("#bbbbbb", "solid", "10–90 % band; ◆ EC10/50/90; ● operating point"))
+        items.append(("#9aa9b8", "solid", "10–90 % band; ◆ EC10/50/90; ● operating point"))
         for i, snap in enumerate(state.pinned):
             colour = PINNED_COLOURS[i % len(PINNED_COLOURS)]
             title = snap.title or f"pinned {i + 1}"

@@ -78,7 +78,7 @@ def difference_table(a: Snapshot, b: Snapshot, label_a: str, label_b: str) -> st
     cell = 'style="padding:1px 6px;text-align:right;font-variant-numeric:tabular-nums"'
     rows = [
         '<table style="border-collapse:collapse;font-size:85%">',
-        f'<tr><th></th><th {cell}>{html.escape(label_a)}</th><th {cell}>{html.escape(label_b)}'
+        f"<tr><th></th><th {cell}>{html.escape(label_a)}</th><th {cell}>{html.escape(label_b)}"
         f"</th><th {cell}>B/A</th></tr>",
         f"<tr><td>model</td><td {cell}>{a.model}</td><td {cell}>{b.model}</td><td></td></tr>",
         f"<tr><td>readout</td><td {cell}>{a.readout}</td><td {cell}>{b.readout}</td><td></td></tr>",
@@ -120,56 +120,101 @@ class SnapshotPanel(w.VBox):
 
     def __init__(self, state: ExplorerState) -> None:
         box = {"description_width": "64px"}
-        self.title = w.Text(value=state.title, description="title", style=box,
-                            placeholder="name this exploration", layout=w.Layout(width="330px"))
-        self.notes = w.Textarea(value=state.notes, description="notes", style=box,
-                                placeholder="what you were testing, which assumptions",
-                                layout=w.Layout(width="330px", height="64px"))
-        self.path = w.Text(description="file", style=box, placeholder="path/to/snapshot.json",
-                           layout=w.Layout(width="330px"),
-                           tooltip="a path on the machine running the kernel")
-        self.overwrite = w.Checkbox(value=False, description="overwrite an existing file",
-                                    indent=False)
-        self.save_button = w.Button(description="Save", icon="save",
-                                    tooltip="save to the file path (in the kernel)",
-                                    layout=w.Layout(width="90px"))
-        self.load_button = w.Button(description="Load", icon="folder-open",
-                                    tooltip="load the file path into the explorer",
-                                    layout=w.Layout(width="90px"))
-        self.pin_button = w.Button(description="Pin current", icon="thumb-tack",
-                                   tooltip="keep the current curve on the plot for comparison",
-                                   layout=w.Layout(width="120px"))
-        self.download = w.HTML()
-        self.upload = w.FileUpload(accept=".json,application/json", multiple=False,
-                                   description="Upload", tooltip="load a snapshot file from "
-                                   "this computer", layout=w.Layout(width="110px"))
-        self.upload_target = w.ToggleButtons(
-            options=[("into explorer", "load"), ("as a pin", "pin")], value="load",
-            tooltip="what an uploaded or loaded file does", style={"button_width": "100px"},
+        self.title = w.Text(
+            value=state.title,
+            description="title",
+            style=box,
+            placeholder="name this exploration",
+            layout=w.Layout(width="330px"),
         )
-        self.pins = w.Select(options=[], rows=4, description="pinned", style=box,
-                             layout=w.Layout(width="330px"))
-        self.unpin_button = w.Button(description="Remove", icon="times",
-                                     layout=w.Layout(width="90px"))
-        self.restore_button = w.Button(description="Restore", icon="undo",
-                                       tooltip="load the selected pin into the explorer",
-                                       layout=w.Layout(width="90px"))
-        self.compare_a = w.Dropdown(description="A", style={"description_width": "16px"},
-                                    layout=w.Layout(width="162px"))
-        self.compare_b = w.Dropdown(description="B", style={"description_width": "16px"},
-                                    layout=w.Layout(width="162px"))
+        self.notes = w.Textarea(
+            value=state.notes,
+            description="notes",
+            style=box,
+            placeholder="what you were testing, which assumptions",
+            layout=w.Layout(width="330px", height="64px"),
+        )
+        self.path = w.Text(
+            description="file",
+            style=box,
+            placeholder="path/to/snapshot.json",
+            layout=w.Layout(width="330px"),
+            tooltip="a path on the machine running the kernel",
+        )
+        self.overwrite = w.Checkbox(
+            value=False, description="overwrite an existing file", indent=False
+        )
+        self.save_button = w.Button(
+            description="Save",
+            icon="save",
+            tooltip="save to the file path (in the kernel)",
+            layout=w.Layout(width="90px"),
+        )
+        self.load_button = w.Button(
+            description="Load",
+            icon="folder-open",
+            tooltip="load the file path into the explorer",
+            layout=w.Layout(width="90px"),
+        )
+        self.pin_button = w.Button(
+            description="Pin current",
+            icon="thumb-tack",
+            tooltip="keep the current curve on the plot for comparison",
+            layout=w.Layout(width="120px"),
+        )
+        self.download = w.HTML()
+        self.upload = w.FileUpload(
+            accept=".json,application/json",
+            multiple=False,
+            description="Upload",
+            tooltip="load a snapshot file from this computer",
+            layout=w.Layout(width="110px"),
+        )
+        self.upload_target = w.ToggleButtons(
+            options=[("into explorer", "load"), ("as a pin", "pin")],
+            value="load",
+            tooltip="what an uploaded or loaded file does",
+            style={"button_width": "100px"},
+        )
+        self.pins = w.Select(
+            options=[], rows=4, description="pinned", style=box, layout=w.Layout(width="330px")
+        )
+        self.unpin_button = w.Button(
+            description="Remove", icon="times", layout=w.Layout(width="90px")
+        )
+        self.restore_button = w.Button(
+            description="Restore",
+            icon="undo",
+            tooltip="load the selected pin into the explorer",
+            layout=w.Layout(width="90px"),
+        )
+        self.compare_a = w.Dropdown(
+            description="A", style={"description_width": "16px"}, layout=w.Layout(width="162px")
+        )
+        self.compare_b = w.Dropdown(
+            description="B", style={"description_width": "16px"}, layout=w.Layout(width="162px")
+        )
         self.difference = w.HTML()
         self.message = MessageLine()
         super().__init__(
             children=[
-                w.HTML("<b>Snapshot</b>"), self.title, self.notes, self.path, self.overwrite,
+                w.HTML("<b>Snapshot</b>"),
+                self.title,
+                self.notes,
+                self.path,
+                self.overwrite,
                 w.HBox([self.save_button, self.load_button, self.upload]),
-                w.HBox([w.HTML("load or upload", layout=w.Layout(width="100px")),
-                        self.upload_target]),
-                self.download, self.message,
-                w.HTML("<b>Compare</b>"), w.HBox([self.pin_button]), self.pins,
+                w.HBox(
+                    [w.HTML("load or upload", layout=w.Layout(width="100px")), self.upload_target]
+                ),
+                self.download,
+                self.message,
+                w.HTML("<b>Compare</b>"),
+                w.HBox([self.pin_button]),
+                self.pins,
                 w.HBox([self.restore_button, self.unpin_button]),
-                w.HBox([self.compare_a, self.compare_b]), self.difference,
+                w.HBox([self.compare_a, self.compare_b]),
+                self.difference,
             ],
             state=state,
         )
@@ -347,8 +392,9 @@ class SnapshotPanel(w.VBox):
                 current = dropdown.value
                 if list(dropdown.options) != choices:
                     dropdown.options = choices
-                    dropdown.value = current if current in values else (
-                        default if default in values else -1)
+                    dropdown.value = (
+                        current if current in values else (default if default in values else -1)
+                    )
         finally:
             self._updating_choices = False
         self._refresh_difference()
@@ -366,8 +412,10 @@ class SnapshotPanel(w.VBox):
 
     def _refresh_difference(self) -> None:
         if not self.state.pinned:
-            value = ('<span style="color:#4d4d4d;font-size:85%">Pin snapshots to compare them '
-                     "with the current point side by side.</span>")
+            value = (
+                '<span style="color:#4d4d4d;font-size:85%">Pin snapshots to compare them '
+                "with the current point side by side.</span>"
+            )
         else:
             a, label_a = self._snapshot_for(self.compare_a.value)
             b, label_b = self._snapshot_for(self.compare_b.value)

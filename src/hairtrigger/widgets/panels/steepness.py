@@ -55,7 +55,10 @@ MAP_DEBOUNCE_SECONDS: Final[float] = 0.25
 #: Cycle keys the map depends on (it sweeps the Michaelis constants; the kinase amount is the
 #: unknown of the closed-form inverse, and binding rates do not enter steady states).
 MAP_INPUT_KEYS: Final[tuple[str, ...]] = (
-    "substrate_total", "kinase_kcat", "phosphatase_total", "phosphatase_kcat",
+    "substrate_total",
+    "kinase_kcat",
+    "phosphatase_total",
+    "phosphatase_kcat",
 )
 
 
@@ -103,8 +106,9 @@ def cell_centres(low: float, high: float, cells: int) -> np.ndarray:
 _DARK = relative_luminance(PALETTE[:256, :3] / 255.0) < 0.45
 
 
-def colour_map(values: np.ndarray, target: float | None) -> tuple[np.ndarray, np.ndarray, np.ndarray,
-                                                                  float | None, float | None]:
+def colour_map(
+    values: np.ndarray, target: float | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float | None, float | None]:
     """Colour a map in log10 of the measure; undefined cells grey; outline of `target`.
 
     Colours come from a 256-step viridis lookup table (one gather per map). Returns
@@ -139,14 +143,23 @@ def colour_map(values: np.ndarray, target: float | None) -> tuple[np.ndarray, np
     return PALETTE[index], defined, outline, 10.0**lo, 10.0**hi
 
 
-def compute_map(cycle: Cycle, model: str, readout: str, measure: str, cells: int,
-                k_low: float, k_high: float, target: float | None) -> MapImage:
+def compute_map(
+    cycle: Cycle,
+    model: str,
+    readout: str,
+    measure: str,
+    cells: int,
+    k_low: float,
+    k_high: float,
+    target: float | None,
+) -> MapImage:
     """Compute and colour a steepness map (calls `hairtrigger.core.steepness_map`)."""
     k1 = cell_centres(k_low, k_high, cells)
     k2 = cell_centres(k_low, k_high, cells)
     w_total = cycle.substrate_total
-    values = steepness_map(cycle, (k1 * w_total)[None, :], (k2 * w_total)[:, None], model,
-                           readout, measure)
+    values = steepness_map(
+        cycle, (k1 * w_total)[None, :], (k2 * w_total)[:, None], model, readout, measure
+    )
     rgba, defined, outline, low, high = colour_map(values, target)
     png = encode_png(rgba[::-1])
     return MapImage(k1, k2, values, defined, low, high, rgba, outline, png)
@@ -177,8 +190,13 @@ class SteepnessMapPanel(w.VBox):
 
     state = Instance(ExplorerState)
 
-    def __init__(self, state: ExplorerState, width: str = "400px", height: str = "380px",
-                 debounce: float = MAP_DEBOUNCE_SECONDS) -> None:
+    def __init__(
+        self,
+        state: ExplorerState,
+        width: str = "400px",
+        height: str = "380px",
+        debounce: float = MAP_DEBOUNCE_SECONDS,
+    ) -> None:
         spec1 = PARAMETER_SPECS["K1"]
         spec2 = PARAMETER_SPECS["K2"]
         self.k_low, self.k_high = spec1.low, spec1.high
@@ -189,58 +207,105 @@ class SteepnessMapPanel(w.VBox):
         scales = {"x": self.x_scale, "y": self.y_scale}
         self._buffers = (w.Image(format="png"), w.Image(format="png"))
         self.image_mark = bq.Image(
-            image=self._buffers[0], x=np.array([self.k_low, self.k_high]),
-            y=np.array([self.k_low, self.k_high]), scales=scales,
+            image=self._buffers[0],
+            x=np.array([self.k_low, self.k_high]),
+            y=np.array([self.k_low, self.k_high]),
+            scales=scales,
         )
         self.crosshair = bq.Lines(
-            x=np.ones((2, 2)), y=np.ones((2, 2)), scales=scales, colors=["white", "white"],
-            stroke_width=1.2, line_style="dashed",
+            x=np.ones((2, 2)),
+            y=np.ones((2, 2)),
+            scales=scales,
+            colors=["white", "white"],
+            stroke_width=1.2,
+            line_style="dashed",
         )
         self.crosshair_halo = bq.Lines(
-            x=np.ones((2, 2)), y=np.ones((2, 2)), scales=scales, colors=["black", "black"],
-            stroke_width=3.0, opacities=[0.6, 0.6],
+            x=np.ones((2, 2)),
+            y=np.ones((2, 2)),
+            scales=scales,
+            colors=["black", "black"],
+            stroke_width=3.0,
+            opacities=[0.6, 0.6],
         )
         self.point = bq.Scatter(
-            x=np.ones(1), y=np.ones(1), scales=scales, marker="circle", default_size=70,
-            colors=["white"], stroke="black", stroke_width=2.0,
+            x=np.ones(1),
+            y=np.ones(1),
+            scales=scales,
+            marker="circle",
+            default_size=70,
+            colors=["white"],
+            stroke="black",
+            stroke_width=2.0,
         )
         ticks = np.asarray(log_ticks(self.k_low, self.k_high), dtype=float)
         self.figure = figure(
             [self.image_mark, self.crosshair_halo, self.crosshair, self.point],
-            [axis(self.x_scale, "K1 = M1/W (kinase Km / total substrate)", "bottom",
-                  tick_format="~g", tick_values=ticks),
-             axis(self.y_scale, "K2 = M2/W (phosphatase Km / W)", "left", tick_format="~g",
-                  tick_values=ticks)],
-            width, height, min_aspect_ratio=1.0, max_aspect_ratio=1.0,
+            [
+                axis(
+                    self.x_scale,
+                    "K1 = M1/W (kinase Km / total substrate)",
+                    "bottom",
+                    tick_format="~g",
+                    tick_values=ticks,
+                ),
+                axis(
+                    self.y_scale,
+                    "K2 = M2/W (phosphatase Km / W)",
+                    "left",
+                    tick_format="~g",
+                    tick_values=ticks,
+                ),
+            ],
+            width,
+            height,
+            min_aspect_ratio=1.0,
+            max_aspect_ratio=1.0,
         )
         # Colour bar: a gradient image on a log scale spanning the map's colour range.
         self.bar_scale = bq.LogScale(min=1.0, max=10.0)
         self._bar_x = bq.LinearScale(min=0.0, max=1.0)
         self.bar_image = bq.Image(
-            image=w.Image(value=colour_bar_png(), format="png"), x=np.array([0.0, 1.0]),
-            y=np.array([1.0, 10.0]), scales={"x": self._bar_x, "y": self.bar_scale},
+            image=w.Image(value=colour_bar_png(), format="png"),
+            x=np.array([0.0, 1.0]),
+            y=np.array([1.0, 10.0]),
+            scales={"x": self._bar_x, "y": self.bar_scale},
         )
-        self.bar_axis = axis(self.bar_scale, MEASURE_LABELS[state.map_measure], "right",
-                             tick_format="~g", label_offset="48px")
+        self.bar_axis = axis(
+            self.bar_scale,
+            MEASURE_LABELS[state.map_measure],
+            "right",
+            tick_format="~g",
+            label_offset="48px",
+        )
         self.colour_bar = figure(
-            [self.bar_image], [self.bar_axis], "118px", height,
-            margin={"top": 16, "bottom": 52, "left": 4, "right": 84},
+            [self.bar_image],
+            [self.bar_axis],
+            "108px",
+            height,
+            margin={"top": 16, "bottom": 52, "left": 4, "right": 76},
         )
         self.measure = w.Dropdown(
-            options=[(MEASURE_LABELS[m], m) for m in MAP_MEASURES], value=state.map_measure,
-            description="measure", style={"description_width": "58px"},
-            layout=w.Layout(width="330px"),
+            options=[(MEASURE_LABELS[m], m) for m in MAP_MEASURES],
+            value=state.map_measure,
+            description="measure",
+            style={"description_width": "58px"},
+            layout=w.Layout(width="290px"),
             tooltip="steepness measure drawn; the relative nH takes EC10/EC90 as fractions of "
             "the readout ceiling",
         )
         self.resolution = w.Dropdown(
-            options=[(f"{n}²", n) for n in MAP_RESOLUTIONS], value=state.map_resolution,
-            description="cells", style={"description_width": "40px"},
-            layout=w.Layout(width="120px"),
+            options=[(f"{n}²", n) for n in MAP_RESOLUTIONS],
+            value=state.map_resolution,
+            description="cells",
+            style={"description_width": "36px"},
+            layout=w.Layout(width="110px"),
         )
         self.target = w.Text(
-            value=format_value(state.map_target), continuous_update=False,
-            description="outline at", style={"description_width": "70px"},
+            value=format_value(state.map_target),
+            continuous_update=False,
+            description="outline at",
+            style={"description_width": "70px"},
             layout=w.Layout(width="150px"),
             tooltip="draw the outline where the measure crosses this value (press Enter)",
         )
@@ -248,13 +313,18 @@ class SteepnessMapPanel(w.VBox):
         self.caption = w.HTML()
         self.message = MessageLine()
         self.target_message = MessageLine()
-        header = w.HBox([w.HTML("<b>Steepness map</b>"), self.busy],
-                        layout=w.Layout(align_items="center"))
+        header = w.HBox(
+            [w.HTML("<b>Steepness map</b>"), self.busy], layout=w.Layout(align_items="center")
+        )
         options = w.HBox([self.measure, self.resolution], layout=w.Layout(grid_gap="6px"))
         super().__init__(
             children=[
-                header, options, w.HBox([self.target, self.target_message]),
-                w.HBox([self.figure, self.colour_bar]), self.caption, self.message,
+                header,
+                options,
+                w.HBox([self.target, self.target_message]),
+                w.HBox([self.figure, self.colour_bar]),
+                self.caption,
+                self.message,
             ],
             state=state,
         )
@@ -278,8 +348,13 @@ class SteepnessMapPanel(w.VBox):
         state = self.state
         cycle = state.cycle
         values = cycle_arrays(cycle) if cycle is not None else {}
-        return (tuple(values.get(k) for k in MAP_INPUT_KEYS), state.model, state.readout,
-                state.map_measure, state.map_resolution)
+        return (
+            tuple(values.get(k) for k in MAP_INPUT_KEYS),
+            state.model,
+            state.readout,
+            state.map_measure,
+            state.map_resolution,
+        )
 
     @property
     def pending(self) -> bool:
@@ -364,8 +439,16 @@ class SteepnessMapPanel(w.VBox):
         if cycle is None:
             return
         key = self.map_key()
-        image = compute_map(cycle, state.model, state.readout, state.map_measure,
-                            state.map_resolution, self.k_low, self.k_high, state.map_target)
+        image = compute_map(
+            cycle,
+            state.model,
+            state.readout,
+            state.map_measure,
+            state.map_resolution,
+            self.k_low,
+            self.k_high,
+            state.map_target,
+        )
         self.recomputes += 1
         self._map_key = key
         self._show(image)
@@ -376,8 +459,19 @@ class SteepnessMapPanel(w.VBox):
             return
         image = self.current
         rgba, defined, outline, low, high = colour_map(image.values, self.state.map_target)
-        self._show(MapImage(image.k1, image.k2, image.values, defined, low, high, rgba, outline,
-                            encode_png(rgba[::-1])))
+        self._show(
+            MapImage(
+                image.k1,
+                image.k2,
+                image.values,
+                defined,
+                low,
+                high,
+                rgba,
+                outline,
+                encode_png(rgba[::-1]),
+            )
+        )
 
     def _show(self, image: MapImage) -> None:
         self.current = image

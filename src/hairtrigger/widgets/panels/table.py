@@ -36,22 +36,63 @@ def table_rows(state: ExplorerState) -> list[tuple[str, str, str, str]]:
         ("K2 = M2/W", format_number(r["K2"]), "", ""),
         ("activity ratio r", format_number(r["activity_ratio"]), "", ""),
         ("kinase E1/W", format_number(state.kinase_ratio), "", ""),
-        ("readout", format_number(r["readout_value"]),
-         format_number(_ratio(r["readout_value"], r["readout_ceiling"])), "fraction"),
+        (
+            "readout",
+            format_number(r["readout_value"]),
+            format_number(_ratio(r["readout_value"], r["readout_ceiling"])),
+            "fraction",
+        ),
         ("readout ceiling", format_number(r["readout_ceiling"]), "1", "fraction of W"),
-        ("EC10 (r)", format_number(r["activity_ratio_10"]), format_number(rel["activity_ratio_10"]), ""),
-        ("EC50 (r)", format_number(r["activity_ratio_50"]), format_number(rel["activity_ratio_50"]), ""),
-        ("EC90 (r)", format_number(r["activity_ratio_90"]), format_number(rel["activity_ratio_90"]), ""),
-        ("Rv = r90/r10", format_number(r["response_coefficient"]),
-         format_number(rel["response_coefficient"]), ""),
-        ("nH = ln 81 / ln Rv", format_number(r["hill_coefficient"]),
-         format_number(rel["hill_coefficient"]), ""),
+        (
+            "EC10 (r)",
+            format_number(r["activity_ratio_10"]),
+            format_number(rel["activity_ratio_10"]),
+            "",
+        ),
+        (
+            "EC50 (r)",
+            format_number(r["activity_ratio_50"]),
+            format_number(rel["activity_ratio_50"]),
+            "",
+        ),
+        (
+            "EC90 (r)",
+            format_number(r["activity_ratio_90"]),
+            format_number(rel["activity_ratio_90"]),
+            "",
+        ),
+        (
+            "Rv = r90/r10",
+            format_number(r["response_coefficient"]),
+            format_number(rel["response_coefficient"]),
+            "",
+        ),
+        (
+            "nH = ln 81 / ln Rv",
+            format_number(r["hill_coefficient"]),
+            format_number(rel["hill_coefficient"]),
+            "",
+        ),
     ]
     if course is not None:
         rows += [
             ("half-time after step", format_number(course.half_time), "", "s"),
             ("10→90 % switching time", format_number(course.switching_time), "", "s"),
             ("relaxation time (final state)", format_number(course.relaxation_time), "", "s"),
+        ]
+    dynamics = r.get("dynamics")
+    if dynamics:
+        down, up = dynamics["down"], dynamics["up"]
+        rows += [
+            ("half-time, kinase halved", format_number(down.get("half_time")), "", "s"),
+            ("half-time, kinase restored", format_number(up.get("half_time")), "", "s"),
+            ("relaxation time here", format_number(dynamics.get("relaxation_time")), "", "s"),
+            (
+                "relaxation time at EC50",
+                format_number(dynamics.get("relaxation_time_at_threshold")),
+                "",
+                "s",
+            ),
         ]
     return rows
 
@@ -76,8 +117,7 @@ class ReadoutTable(w.VBox):
     def __init__(self, state: ExplorerState, width: str = "420px") -> None:
         self.table = w.HTML(layout=w.Layout(width=width))
         self.message = MessageLine()
-        super().__init__(children=[w.HTML("<b>Readout</b>"), self.table, self.message],
-                         state=state)
+        super().__init__(children=[w.HTML("<b>Readout</b>"), self.table, self.message], state=state)
         self.add_class("hairtrigger-table")
         state.observe(self._on_state, "revision")
         self.refresh()
@@ -88,11 +128,12 @@ class ReadoutTable(w.VBox):
     def refresh(self) -> None:
         """Rebuild the table (one message, only when its text changed)."""
         state = self.state
-        cell = 'style="padding:1px 8px;text-align:right;font-variant-numeric:tabular-nums"'
-        head = 'style="padding:1px 8px;text-align:right;font-weight:normal;color:#4d4d4d"'
+        cell = 'style="padding:1px 6px;text-align:right;font-variant-numeric:tabular-nums"'
+        head = 'style="padding:1px 6px;text-align:right;font-weight:normal;color:#4d4d4d"'
         lines = [
-            '<table style="border-collapse:collapse;font-size:90%">',
-            f'<caption style="text-align:left;color:#4d4d4d">{html.escape(MODEL_LABELS[state.model])}; '
+            '<table style="border-collapse:collapse;font-size:85%;width:100%">',
+            '<caption style="text-align:left;color:#4d4d4d">'
+            f"{html.escape(MODEL_LABELS[state.model])}; "
             f"{html.escape(READOUT_LABELS[state.readout])}</caption>",
             f'<tr><th style="text-align:left"></th><th {head}>targets of W</th>'
             f"<th {head}>of ceiling</th><th {head}>unit</th></tr>",
@@ -108,14 +149,6 @@ class ReadoutTable(w.VBox):
         course = state.time_course
         if course is not None and course.message and not course.success:
             notes.append(f"time course: {course.message}")
-        cycle = state.cycle
-        if state.model == "mass_action" and cycle is not None:
-            for who, koff in (("kinase", cycle.kinase_koff), ("phosphatase", cycle.phosphatase_koff)):
-                if koff < 0:
-                    notes.append(
-                        f"{who} binding rate too small for its Km and turnover (dissociation rate "
-                        f"{koff:.3g}/s < 0): raise it for mass-action time courses"
-                    )
         if state.problem:
             notes.append(state.problem)
         if notes:

@@ -8,6 +8,7 @@ by the shared state (`ExplorerState.time_course`), so the readout table shows th
 
 from __future__ import annotations
 
+import html
 from collections.abc import Mapping
 from typing import Any, Final
 
@@ -59,34 +60,54 @@ class TimeCoursePanel(w.VBox):
         self.y_scale = bq.LinearScale(min=0.0, max=1.0)
         scales = {"x": self.x_scale, "y": self.y_scale}
         self.species_lines = bq.Lines(
-            x=np.zeros((len(SPECIES), 2)), y=np.zeros((len(SPECIES), 2)), scales=scales,
-            colors=[s[2] for s in SPECIES], stroke_width=1.5,
+            x=np.zeros((len(SPECIES), 2)),
+            y=np.zeros((len(SPECIES), 2)),
+            scales=scales,
+            colors=[s[2] for s in SPECIES],
+            stroke_width=1.5,
         )
-        self.readout_line = bq.Lines(x=np.zeros(2), y=np.zeros(2), scales=scales,
-                                     colors=[READOUT_COLOUR], stroke_width=2.5)
+        self.readout_line = bq.Lines(
+            x=np.zeros(2), y=np.zeros(2), scales=scales, colors=[READOUT_COLOUR], stroke_width=2.5
+        )
         self.half_time_marker = bq.Lines(
-            x=np.zeros(2), y=np.array([0.0, 1.0]), scales=scales, colors=["#111111"],
-            line_style="dotted", stroke_width=1.5, visible=False,
+            x=np.zeros(2),
+            y=np.array([0.0, 1.0]),
+            scales=scales,
+            colors=["#111111"],
+            line_style="dotted",
+            stroke_width=1.5,
+            visible=False,
         )
         self.half_time_point = bq.Scatter(
-            x=np.zeros(1), y=np.zeros(1), scales=scales, marker="triangle-down",
-            default_size=60, colors=["#111111"], visible=False,
+            x=np.zeros(1),
+            y=np.zeros(1),
+            scales=scales,
+            marker="triangle-down",
+            default_size=60,
+            colors=["#111111"],
+            visible=False,
         )
         self.x_axis = axis(self.x_scale, "time after the step (s)", "bottom", tick_format="~g")
-        self.y_axis = axis(self.y_scale, "fraction of total substrate W", "left",
-                           tick_format=".1f")
+        self.y_axis = axis(self.y_scale, "fraction of total substrate W", "left", tick_format=".1f")
         self.figure = figure(
-            [self.species_lines, self.readout_line, self.half_time_marker,
-             self.half_time_point],
-            [self.x_axis, self.y_axis], width, height,
+            [self.species_lines, self.readout_line, self.half_time_marker, self.half_time_point],
+            [self.x_axis, self.y_axis],
+            width,
+            height,
         )
         self.step_control = LogControl(state, "step_activity_ratio", spec=STEP_SPEC)
         self.summary = w.HTML()
         self.legend = w.HTML(self._legend_html(state))
         self.message = MessageLine()
         super().__init__(
-            children=[w.HTML("<b>Time course after a step in activity</b>"), self.step_control,
-                      self.figure, self.legend, self.summary, self.message],
+            children=[
+                w.HTML("<b>Time course after a step in activity</b>"),
+                self.step_control,
+                self.figure,
+                self.legend,
+                self.summary,
+                self.message,
+            ],
             state=state,
         )
         self.add_class("hairtrigger-timecourse")
@@ -99,8 +120,9 @@ class TimeCoursePanel(w.VBox):
         items += [(c, s, label) for _, label, c, s in SPECIES]
         items.append(("#111111", "dotted", "half-time"))
         parts = [
-            f'<span style="white-space:nowrap;margin-right:10px"><span style="display:inline-block;'
-            f'width:18px;border-top:3px {style} {colour};vertical-align:middle"></span> {text}</span>'
+            '<span style="white-space:nowrap;margin-right:10px"><span style="display:inline-block;'
+            f'width:18px;border-top:3px {style} {colour};vertical-align:middle"></span> '
+            f"{html.escape(text)}</span>"
             for colour, style, text in items
         ]
         return '<div style="font-size:85%;line-height:1.5">' + " ".join(parts) + "</div>"
@@ -124,8 +146,18 @@ class TimeCoursePanel(w.VBox):
         finite = np.isfinite(ys).all(axis=0) & np.isfinite(course.readout)
         t_ok, ys, readout = t[finite], ys[:, finite], course.readout[finite]
         if len(t_ok) < 2:
-            self.message.show_error(f"time course failed: {course.message}")
+            for mark in (
+                self.species_lines,
+                self.readout_line,
+                self.half_time_marker,
+                self.half_time_point,
+            ):
+                mark.visible = False
+            self.message.show_error(f"no time course: {course.message}")
+            self._draw_summary(course)
             return
+        self.species_lines.visible = True
+        self.readout_line.visible = True
         top = max(1.0, float(np.max(ys)), float(np.max(readout)))
         with self.x_scale.hold_sync():
             self.x_scale.min = 0.0
