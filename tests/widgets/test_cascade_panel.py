@@ -33,10 +33,10 @@ from hairtrigger.widgets.panels.cascade import (
     DEFAULT_SCAN,
     FIELD_SPECS,
     MAX_LEVELS,
+    compact_number,
     format_entry,
     parse_amount,
 )
-from hairtrigger.widgets.panels.table import format_number
 
 
 @pytest.fixture(scope="module")
@@ -55,8 +55,10 @@ def panel() -> CascadePanel:
     return CascadePanel(ExplorerState())
 
 
-def _table_rows(panel: CascadePanel) -> list[list[str]]:
-    rows = re.findall(r"<tr[^>]*>(.*?)</tr>", panel.table.value)
+def _table_rows(panel: CascadePanel, table: int = 0) -> list[list[str]]:
+    """Cells of the data rows of the first (steepness) or second (Hill coefficients) table."""
+    tables = re.findall(r"<table[^>]*>(.*?)</table>", panel.table.value)
+    rows = re.findall(r"<tr[^>]*>(.*?)</tr>", tables[table])
     return [re.findall(r"<t[dh][^>]*>(.*?)</t[dh]>", row) for row in rows[1:]]
 
 
@@ -88,33 +90,24 @@ def test_curves_markers_and_table_equal_cascade_response(panel, example, referen
         assert panel.ec_markers[i].visible
     assert not any(m.visible for m in panel.ec_markers[len(reference.levels) :])
     # The table: every level, then the cascade's output, with the core's numbers.
-    other = "total" if definition == "free" else "free"
-    rows = _table_rows(panel)
+    rows, hills = _table_rows(panel, 0), _table_rows(panel, 1)
     levels = [*reference.levels, reference.overall]
-    assert len(rows) == len(levels)
-    for row, values, level in zip(rows, panel.rows(), levels, strict=True):
+    assert len(rows) == len(hills) == len(levels)
+    for row, hill, values, level in zip(rows, hills, panel.rows(), levels, strict=True):
         steep = level.output(definition)
-        numbers = (
-            steep.ec10,
-            steep.ec50,
-            steep.ec90,
-            steep.hill_coefficient,
+        numbers = (steep.ec10, steep.ec50, steep.ec90, steep.hill_coefficient, steep.plateau)
+        assert row[1:] == [compact_number(v) for v in numbers]
+        by_definition = (
+            level.free.hill_coefficient,
+            level.total.hill_coefficient,
             steep.stage_hill_coefficient,
-            steep.plateau,
-            level.output(other).hill_coefficient,
         )
-        assert row[1:] == [format_number(v, 3) for v in numbers]
-        keys = (
-            "ec10",
-            "ec50",
-            "ec90",
-            "hill_coefficient",
-            "stage_hill_coefficient",
-            "plateau",
-            "other_hill_coefficient",
-        )
+        assert hill[1:] == [compact_number(v) for v in by_definition]
+        keys = ("ec10", "ec50", "ec90", "hill_coefficient", "plateau")
         assert [values[k] for k in keys] == pytest.approx(list(numbers), rel=1e-12)
-    assert rows[-1][0].startswith("overall")
+        keys = ("free_hill_coefficient", "total_hill_coefficient", "stage_hill_coefficient")
+        assert [values[k] for k in keys] == pytest.approx(list(by_definition), rel=1e-12)
+    assert rows[-1][0] == "overall"
     assert panel.y_axis.label == f"{definition} output / plateau"
     # The operating point of the file is drawn where it is.
     assert panel.operating_line.visible
@@ -433,3 +426,19 @@ def test_every_field_is_in_the_form(panel):
     level = panel.cascade.levels[0]
     assert panel.fields["kinase.koff"].entry.value == format_entry(level.kinase.koff)
     assert panel.fields["phosphatase.kcat"].entry.value == format_entry(level.phosphatase.kcat)
+
+
+@pytest.mark.parametrize(
+    "value, text",
+    [
+        (0.000683, "6.83e-4"),
+        (5.6784, "5.68"),
+        (1.46e-05, "1.46e-5"),
+        (0.0123, "0.0123"),
+        (math.nan, "—"),
+        (123456.0, "1.23e5"),
+        (0.0, "0"),
+    ],
+)
+def test_compact_numbers(value, text):
+    assert compact_number(value) == text

@@ -98,6 +98,9 @@ DEFINITION_LABELS: Final[dict[str, str]] = {
 
 _MISSING = "—"
 
+#: Columns of the first table (besides the level): the chosen output's steepness.
+STEEPNESS_KEYS: Final[tuple[str, ...]] = ("ec10", "ec50", "ec90", "hill_coefficient", "plateau")
+
 
 # --- parsing ------------------------------------------------------------------------------------
 
@@ -126,6 +129,21 @@ def format_entry(value: float) -> str:
     """Short text for an entry box that reads back as exactly `value`."""
     short = f"{value:g}"
     return short if float(short) == value else repr(float(value))
+
+
+def compact_number(value: float, digits: int = 3) -> str:
+    """A table number in few characters: 3 significant digits, exponents without padding.
+
+    ``0.000683`` → ``6.83e-4``; ``5.68`` → ``5.68``; NaN → an em dash.
+    """
+    text = format_number(value, digits)
+    if text == _MISSING:
+        return text
+    number = float(value)
+    if number != 0.0 and abs(number) < 1e-2:
+        text = f"{number:.{digits - 1}e}"
+    mantissa, sep, exponent = text.partition("e")
+    return mantissa + (f"e{int(exponent)}" if sep else "")
 
 
 def file_stem(title: str) -> str:
@@ -278,7 +296,7 @@ class CascadePanel(w.VBox):
         cascade: Cascade | None = None,
         scan: tuple[float, float] = DEFAULT_SCAN,
         debounce: float = COMPUTE_DEBOUNCE_SECONDS,
-        width: str = "410px",
+        width: str = "385px",
         height: str = "260px",
     ) -> None:
         start = cascade if cascade is not None else _example()
@@ -292,7 +310,7 @@ class CascadePanel(w.VBox):
         self.computes = 0
         self._computed_key: tuple[Any, ...] | None = None
         self._scan = (float(scan[0]), float(scan[1]))
-        box = {"description_width": "52px"}
+        box = {"description_width": "60px"}
 
         # File and example controls.
         self.title = w.Text(
@@ -300,14 +318,14 @@ class CascadePanel(w.VBox):
             description="title",
             style=box,
             placeholder="name this cascade",
-            layout=w.Layout(width="400px"),
+            layout=w.Layout(width="385px"),
         )
         self.path = w.Text(
             description="file",
             style=box,
             placeholder="path/to/cascade.json",
             tooltip="a path on the machine running the kernel",
-            layout=w.Layout(width="400px"),
+            layout=w.Layout(width="385px"),
         )
         self.overwrite = w.Checkbox(
             value=False, description="overwrite", indent=False, layout=w.Layout(width="90px")
@@ -444,7 +462,7 @@ class CascadePanel(w.VBox):
             stroke_width=1.0,
             visible=False,
         )
-        self.x_axis = axis(self.x_scale, "input enzyme total (µM)", "bottom", tick_format="~g")
+        self.x_axis = axis(self.x_scale, "input enzyme total (µM)", "bottom", tick_format=".0e")
         self.y_axis = axis(self.y_scale, "free output / plateau", "left", tick_format=".1f")
         self.figure = figure(
             [self.operating_line, self.curves, *self.ec_markers],
@@ -453,7 +471,7 @@ class CascadePanel(w.VBox):
             height,
         )
         self.legend = w.HTML()
-        self.table = w.HTML(layout=w.Layout(width="410px"))
+        self.table = w.HTML(layout=w.Layout(width="390px"))
         self.busy = BusyIndicator()
         self.message = MessageLine()
 
@@ -834,10 +852,9 @@ class CascadePanel(w.VBox):
         if response is None:
             return []
         definition = self.definition.value
-        other = "total" if definition == "free" else "free"
         out = []
         entries = [(lv.name, lv) for lv in response.levels]
-        entries.append((f"overall ({response.overall.name})", response.overall))
+        entries.append(("overall", response.overall))
         for label, level in entries:
             steep = level.output(definition)
             out.append(
@@ -850,7 +867,8 @@ class CascadePanel(w.VBox):
                     "hill_coefficient": steep.hill_coefficient,
                     "stage_hill_coefficient": steep.stage_hill_coefficient,
                     "plateau": steep.plateau,
-                    "other_hill_coefficient": level.output(other).hill_coefficient,
+                    "free_hill_coefficient": level.free.hill_coefficient,
+                    "total_hill_coefficient": level.total.hill_coefficient,
                 }
             )
         return out
@@ -931,39 +949,43 @@ class CascadePanel(w.VBox):
         response = self.response
         assert response is not None
         definition = self.definition.value
-        other = "total" if definition == "free" else "free"
-        cell = 'style="padding:1px 4px;text-align:right;font-variant-numeric:tabular-nums"'
-        head = 'style="padding:1px 4px;text-align:right;font-weight:normal;color:#4d4d4d"'
+        cell = 'style="padding:1px 5px;text-align:right;font-variant-numeric:tabular-nums"'
+        head = 'style="padding:1px 5px;text-align:right;font-weight:normal;color:#4d4d4d"'
+        table = '<table style="border-collapse:collapse;font-size:80%;white-space:nowrap">'
+        rows = self.rows()
+
+        def body(keys: tuple[str, ...]) -> list[str]:
+            out = []
+            for index, row in enumerate(rows):
+                last = index == len(rows) - 1
+                style = ' style="border-top:1px solid #bbbbbb;font-weight:bold"' if last else ""
+                out.append(
+                    f"<tr{style}><td style='padding:1px 5px 1px 0'>"
+                    f"{html.escape(row['level'])}</td>"
+                    + "".join(f"<td {cell}>{compact_number(row[key])}</td>" for key in keys)
+                    + "</tr>"
+                )
+            return out
+
         lines = [
-            '<table style="border-collapse:collapse;font-size:85%">',
-            f'<caption style="text-align:left;color:#4d4d4d">Output: '
-            f"{html.escape(DEFINITION_LABELS[definition])}, as a fraction of its plateau; "
-            "EC values are input enzyme totals (µM)</caption>",
+            table,
+            f'<caption style="white-space:normal;text-align:left;color:#4d4d4d">Output: '
+            f"{html.escape(DEFINITION_LABELS[definition])}; EC values are input enzyme "
+            "totals (µM) at 10/50/90 % of the plateau</caption>",
             f'<tr><th style="text-align:left">level</th><th {head}>EC10</th>'
             f"<th {head}>EC50</th><th {head}>EC90</th><th {head}>nH</th>"
-            f'<th {head} title="against the level\'s own free kinase">stage nH</th>'
-            f"<th {head}>plateau</th><th {head}>nH {other}</th></tr>",
+            f"<th {head}>plateau</th></tr>",
+            *body(STEEPNESS_KEYS),
+            "</table>",
+            f'{table}<caption style="white-space:normal;text-align:left;color:#4d4d4d;padding-top:4px">'
+            "Hill coefficients by output definition</caption>",
+            f'<tr><th style="text-align:left">level</th><th {head}>nH free</th>'
+            f"<th {head}>nH total</th>"
+            f'<th {head} title="against the level\'s own free kinase">stage nH ({definition})'
+            "</th></tr>",
+            *body(("free_hill_coefficient", "total_hill_coefficient", "stage_hill_coefficient")),
+            "</table>",
         ]
-        for row in self.rows():
-            overall = row["level"].startswith("overall")
-            style = ' style="border-top:1px solid #bbbbbb;font-weight:bold"' if overall else ""
-            lines.append(
-                f"<tr{style}><td style='padding:1px 4px 1px 0'>{html.escape(row['level'])}</td>"
-                + "".join(
-                    f"<td {cell}>{format_number(row[key], 3)}</td>"
-                    for key in (
-                        "ec10",
-                        "ec50",
-                        "ec90",
-                        "hill_coefficient",
-                        "stage_hill_coefficient",
-                        "plateau",
-                        "other_hill_coefficient",
-                    )
-                )
-                + "</tr>"
-            )
-        lines.append("</table>")
         notes = list(response.warnings)
         if self.shown_cascade is not None and (
             self.shown_cascade.levels != self._cascade.levels
@@ -980,7 +1002,8 @@ class CascadePanel(w.VBox):
             lines.append("</ul>")
         lines.append(
             '<div style="color:#4d4d4d;font-size:80%;margin-top:4px">nH = ln 81 / ln(EC90/EC10) '
-            "against the input enzyme; stage nH against the level's own free kinase; plateau "
+            "against the input enzyme; overall: the cascade's output (its last level); stage "
+            "nH against the level's own free kinase; plateau "
             "= computed limit of unbounded input (fraction of the level's substrate). "
             "Predictions of a model; they need experimental confirmation.</div>"
         )
