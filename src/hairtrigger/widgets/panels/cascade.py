@@ -65,7 +65,7 @@ DEFAULT_EXAMPLE: Final[str] = "tidepool_relay"
 #: Default scan of the input enzyme total, µM (covers the example's EC10–EC90 of every level).
 DEFAULT_SCAN: Final[tuple[float, float]] = (1e-6, 1e-1)
 
-#: Scan points offered; a three-level scan of 100 points takes about 0.1 s.
+#: Scan points offered; a three-level scan of 100 points takes 0.1–0.15 s.
 POINT_CHOICES: Final[tuple[int, ...]] = (50, 100, 200, 400)
 DEFAULT_POINTS: Final[int] = 100
 
@@ -977,7 +977,8 @@ class CascadePanel(w.VBox):
             f"<th {head}>plateau</th></tr>",
             *body(STEEPNESS_KEYS),
             "</table>",
-            f'{table}<caption style="white-space:normal;text-align:left;color:#4d4d4d;padding-top:4px">'
+            f'{table}<caption style="white-space:normal;text-align:left;color:#4d4d4d;'
+            'padding-top:4px">'
             "Hill coefficients by output definition</caption>",
             f'<tr><th style="text-align:left">level</th><th {head}>nH free</th>'
             f"<th {head}>nH total</th>"
