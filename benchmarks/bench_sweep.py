@@ -10,7 +10,12 @@ baselines measured in the same run:
   are checked to be byte-identical;
 * cascade: the three-level cascade scanned at 200 inputs by continuation (verified states,
   plateau and exact EC values included), against integrating the full mass-action ODE to rest
-  at each input (timed on a few inputs, extrapolated).
+  at each input (timed on a few inputs, extrapolated);
+* half-times (``--half-time-samples``, default 10 000): the sweep's ``half_time`` (the real
+  half-time after evaluate's default step) over many sets — quasi-steady closed form and
+  mass-action compiled loop — against one scalar ``switching_metrics`` call per set (timed on
+  a sub-sample, extrapolated), against the linear ``relaxation_half_time`` it replaced, and a
+  Sobol' analysis of it.
 
 Machine notes: the cluster runs on the same cores as the local run, so on a 2-core machine
 shared with other work the cluster cannot beat the local run by much; it is here to measure the
@@ -33,7 +38,15 @@ from hairtrigger.core.cascade import (
     EnzymeConstants,
     cascade_response,
 )
-from hairtrigger.core.sweep import run_sweep, sample_ranges
+from hairtrigger.core.sweep import (
+    cycle_sensitivity,
+    evaluate_sample,
+    relaxation_half_time,
+    run_sweep,
+    sample_ranges,
+)
+from hairtrigger.core.switching import switching_metrics
+from hairtrigger.core.switching_arrays import step_half_time
 
 CYCLE = Cycle(
     substrate_total=1.0,
@@ -76,6 +89,7 @@ def bench_sweeps(samples: int) -> None:
 
     sub = sample_ranges(RANGES, 300, seed=0)
     for model in ("quasi_steady", "mass_action"):
+
         def naive(model: str = model) -> None:
             for k in range(300):
                 cycle = CYCLE.replace(**{key: float(v[k]) for key, v in sub.items()})
@@ -102,7 +116,10 @@ def cluster_run(samples: int, local, local_rate: float) -> None:  # noqa: ANN001
 
     t_start, cluster = timed(
         lambda: LocalCluster(
-            n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
+            n_workers=2,
+            threads_per_worker=1,
+            processes=True,
+            host="127.0.0.1",
             dashboard_address=None,
         )
     )
@@ -146,8 +163,13 @@ def bench_cascade() -> None:
             start = model.zero_input_state()
             start[0] = value
             solve_ivp(
-                lambda _t, y: model.network.rhs(y), (0.0, 2e5), start, method="LSODA",
-                jac=lambda _t, y: model.network.jacobian(y), rtol=1e-10, atol=1e-16,
+                lambda _t, y: model.network.rhs(y),
+                (0.0, 2e5),
+                start,
+                method="LSODA",
+                jac=lambda _t, y: model.network.jacobian(y),
+                rtol=1e-10,
+                atol=1e-16,
             )
 
     t_brute, _ = timed(brute)
@@ -158,12 +180,99 @@ def bench_cascade() -> None:
     )
 
 
+#: Ranges of the half-time benchmark: kon·Km ≥ kcat everywhere, so every mass-action set has
+#: a half-time.
+TIME_RANGES = [
+    "kinase_km=0.02:2:log",
+    "phosphatase_km=0.02:2:log",
+    "substrate_total=0.1:10:log",
+    "phosphatase_total=0.01:1:log",
+]
+
+
+def bench_half_times(samples: int) -> None:
+    print(f"== half-time after evaluate's default step, {samples:,} parameter sets")
+    sample = sample_ranges(TIME_RANGES, samples, seed=0)
+    params = dict(CYCLE.as_dict())
+    params.update(sample)
+    step_half_time({k: np.atleast_1d(v)[:2] for k, v in params.items()}, "mass_action")  # load
+    t_linear, _ = timed(lambda: relaxation_half_time(params))
+    print(
+        f"linear ln2·tau (the old stand-in)             {t_linear * 1e3:8.2f} ms "
+        f"{samples / t_linear:12,.0f} sets/s"
+    )
+    sub = 200 if samples >= 200 else samples
+    for model in ("quasi_steady", "mass_action"):
+
+        def scalar(model: str = model) -> None:
+            for k in range(sub):
+                c = CYCLE.replace(**{key: float(v[k]) for key, v in sample.items()})
+                low = c.replace(kinase_total=0.5 * c.kinase_total)
+                switching_metrics(low, {"kinase_total": c.kinase_total}, model)
+
+        t_scalar, _ = timed(scalar)
+        scalar_rate = sub / t_scalar
+        t_vec, values = timed(lambda model=model: step_half_time(params, model))
+        rate = samples / t_vec
+        print(
+            f"{model:13s} scalar switching_metrics loop (extrap.) {samples / scalar_rate:8.2f} s "
+            f"{scalar_rate:12,.0f} sets/s"
+        )
+        label = "closed form, vectorised" if model == "quasi_steady" else "compiled loop over sets"
+        print(
+            f"{model:13s} {label:31s} {t_vec:8.3f} s {rate:12,.0f} sets/s   "
+            f"×{rate / scalar_rate:,.0f} the scalar loop; NaN {int(np.isnan(values).sum())}"
+        )
+    qs = step_half_time(params, "quasi_steady")
+    ma = step_half_time(params, "mass_action")
+    lin = relaxation_half_time(params)
+    print(
+        "ratio mass-action / quasi-steady half-time: median "
+        f"{np.nanmedian(ma / qs):.3f}, 5-95 % {np.nanpercentile(ma / qs, 5):.3f}–"
+        f"{np.nanpercentile(ma / qs, 95):.3f}"
+    )
+    print(
+        "ratio real / linear (quasi-steady): median "
+        f"{np.nanmedian(qs / lin):.3f}, 5-95 % {np.nanpercentile(qs / lin, 5):.3f}–"
+        f"{np.nanpercentile(qs / lin, 95):.3f}"
+    )
+    base = 1 << max(4, int(np.log2(max(samples // 6, 16))))
+    for model in ("quasi_steady", "mass_action"):
+        t_sobol, result = timed(
+            lambda model=model: cycle_sensitivity(
+                CYCLE,
+                TIME_RANGES,
+                base,
+                model=model,
+                outputs=["half_time"],
+                bootstrap=200,
+                log_outputs=True,
+            )
+        )
+        total = ", ".join(f"{v:.2f}" for v in result["half_time"].total)
+        print(
+            f"{model:13s} Sobol' of ln half_time, N = {base} ({base * 6:,} sets) {t_sobol:8.2f} s"
+            f"   total indices {total}"
+        )
+    # The sweep's evaluate_sample gives the same numbers as the direct call.
+    check = evaluate_sample(
+        CYCLE, {k: v[:256] for k, v in sample.items()}, "mass_action", outputs=["half_time"]
+    )["half_time"]
+    print(f"sweep output equals step_half_time: {np.array_equal(check, ma[:256], equal_nan=True)}")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--samples", type=int, default=1_000_000)
+    parser.add_argument("--half-time-samples", type=int, default=10_000)
+    parser.add_argument("--only", choices=["cascade", "sweep", "half-time"], default=None)
     args = parser.parse_args()
-    bench_cascade()
-    bench_sweeps(args.samples)
+    if args.only in (None, "cascade"):
+        bench_cascade()
+    if args.only in (None, "half-time"):
+        bench_half_times(args.half_time_samples)
+    if args.only in (None, "sweep"):
+        bench_sweeps(args.samples)
 
 
 if __name__ == "__main__":

@@ -123,7 +123,7 @@ def test_cycle_sensitivity_finds_the_inert_parameter(cycle):
     for indices in (threshold, steepness):
         assert indices.first_order[2] == 0.0 and indices.total[2] == 0.0
         assert indices.total[0] > 0.05 and indices.total[1] > 0.05
-    assert half.total[2] > 0.05  # the relaxation time does depend on the kinase amount
+    assert half.total[2] > 0.05  # the half-time after the step does depend on the kinase amount
     assert set(threshold.as_dict()["inputs"]) == {"kinase_km", "phosphatase_km", "kinase_total"}
 
 

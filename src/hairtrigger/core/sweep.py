@@ -31,6 +31,8 @@ from numpy.typing import ArrayLike, NDArray
 from .evaluate import EVALUATE_KEYS, THRESHOLD_KEYS, evaluate_arrays
 from .params import CYCLE_KEYS, MODELS, READOUTS, Cycle, check_choice
 from .steady import goldbeter_koshland
+from .switching import relaxation_time
+from .switching_arrays import step_half_time
 
 FloatArray = NDArray[np.float64]
 
@@ -43,12 +45,37 @@ EVALUATE_QUANTITIES: Final[tuple[str, ...]] = (
     *(f"relative_{key}" for key in THRESHOLD_KEYS),
 )
 
-#: Switching-time stand-in: ln 2 over the linear relaxation rate of the quasi-steady cycle at
-#: its steady state (see `relaxation_half_time`).
+#: Half-time (s) after the default step of `hairtrigger.evaluate`'s ``dynamics`` block, rising
+#: half: from the steady state with the kinase amount halved, the kinase restored at t = 0
+#: (``dynamics.up.half_time``), in the sweep's model (`hairtrigger.core.switching_arrays`).
 HALF_TIME: Final[str] = "half_time"
 
+#: The falling half of the same step: the kinase amount halved at t = 0 from the steady state
+#: of the parameters (``dynamics.down.half_time``), in the sweep's model.
+HALF_TIME_DOWN: Final[str] = "half_time_down"
+
+#: ``half_time`` of the quasi-steady model whatever the sweep's model: exact, closed form and
+#: about a microsecond per set — the fast stand-in for mass-action sweeps of 10⁵ sets and
+#: more where the enzymes are scarce (complexes negligible); not the mass-action time.
+QUASI_STEADY_HALF_TIME: Final[str] = "quasi_steady_half_time"
+
+#: ln 2 times the linear relaxation time at the steady state of the parameters, in the sweep's
+#: model (the quasi-steady closed form `relaxation_half_time`, or the slowest mass-action
+#: eigenvalue). It describes small perturbations about the steady state, not the zero-order
+#: transit after a large step: near the threshold of a saturated cycle it differs from
+#: ``half_time`` several-fold (either way).
+RELAXATION_HALF_TIME: Final[str] = "relaxation_half_time"
+
+#: Switching times a sweep can compute (beyond the quantities of ``hairtrigger evaluate``).
+TIME_QUANTITIES: Final[tuple[str, ...]] = (
+    HALF_TIME,
+    HALF_TIME_DOWN,
+    QUASI_STEADY_HALF_TIME,
+    RELAXATION_HALF_TIME,
+)
+
 #: Everything a sweep can compute.
-SWEEP_QUANTITIES: Final[tuple[str, ...]] = (*EVALUATE_QUANTITIES, HALF_TIME)
+SWEEP_QUANTITIES: Final[tuple[str, ...]] = (*EVALUATE_QUANTITIES, *TIME_QUANTITIES)
 
 #: Default outputs of `cycle_sensitivity`: threshold, steepness and switching time.
 SENSITIVITY_OUTPUTS: Final[tuple[str, ...]] = ("activity_ratio_50", "hill_coefficient", HALF_TIME)
@@ -206,8 +233,9 @@ def relaxation_half_time(params: Mapping[str, ArrayLike]) -> FloatArray:
 
     ``λ = (1/W)·[V1·K1/(K1 + 1 − y*)² + V2·K2/(K2 + y*)²]`` (linearising the quasi-steady
     ODE; REFERENCES.md "Dynamics"), with y* the Goldbeter–Koshland steady state and 1 − y*
-    computed directly. A stand-in switching-time metric: it describes small perturbations about
-    the steady state, not the zero-order transit after a large step.
+    computed directly. A linear measure: it describes small perturbations about the steady
+    state, not the zero-order transit after a large step (for that, see
+    `hairtrigger.core.switching_arrays.step_half_time`, the sweep's ``half_time``).
     """
     w = np.asarray(params["substrate_total"], dtype=float)
     v1 = np.asarray(params["kinase_kcat"], dtype=float) * np.asarray(
@@ -252,14 +280,38 @@ def evaluate_chunk(
     params.update(varied)
     out: dict[str, FloatArray] = {}
     wanted = set(outputs)
-    if wanted - {HALF_TIME}:
+    if wanted - set(TIME_QUANTITIES):
         values = evaluate_arrays(params, model, readout)
         for name in outputs:
-            if name != HALF_TIME:
+            if name not in TIME_QUANTITIES:
                 out[name] = np.broadcast_to(values[name], (length,)).astype(float)
-    if HALF_TIME in wanted:
-        out[HALF_TIME] = np.broadcast_to(relaxation_half_time(params), (length,)).astype(float)
+    for name in wanted & set(TIME_QUANTITIES):
+        out[name] = np.broadcast_to(_time_quantity(name, params, model, readout), (length,))
+        out[name] = out[name].astype(float)
     return {name: out[name] for name in outputs}
+
+
+def _time_quantity(
+    name: str, params: Mapping[str, ArrayLike], model: str, readout: str
+) -> FloatArray:
+    """One of `TIME_QUANTITIES` over the chunk (NaN where it does not exist)."""
+    if name == RELAXATION_HALF_TIME:
+        if model == "quasi_steady":
+            return relaxation_half_time(params)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            tau = relaxation_time(params, model)
+        # The mass-action equations need kon·Km ≥ kcat (a dissociation rate ≥ 0).
+        valid = np.ones(np.shape(tau), dtype=bool)
+        for enzyme in ("kinase", "phosphatase"):
+            kon, km, kcat = (
+                np.asarray(params[f"{enzyme}_{k}"], dtype=float) for k in ("kon", "km", "kcat")
+            )
+            valid &= kon * km - kcat >= 0.0
+        return np.asarray(np.where(valid, math.log(2.0) * tau, np.nan), dtype=float)
+    if name == QUASI_STEADY_HALF_TIME:
+        return step_half_time(params, "quasi_steady", readout, "up")
+    direction = "up" if name == HALF_TIME else "down"
+    return step_half_time(params, model, readout, direction)
 
 
 def _chunks(total: int, size: int) -> Iterator[slice]:
@@ -717,8 +769,13 @@ def cycle_sensitivity(
     ----------
     outputs : sequence of str
         Any of `SWEEP_QUANTITIES`; by default ``activity_ratio_50`` (threshold),
-        ``hill_coefficient`` (steepness) and ``half_time`` — the stand-in switching time
-        `relaxation_half_time`.
+        ``hill_coefficient`` (steepness) and ``half_time`` — the half-time after the default
+        step of ``evaluate``'s ``dynamics`` block (kinase amount restored from half), in the
+        sweep's model. Quasi-steady half-times are closed form (about a microsecond per set);
+        mass-action half-times integrate every set with the compiled integrator (about half a
+        millisecond per set: 10⁴ sets take seconds; run large designs on Dask, or ask for
+        ``quasi_steady_half_time`` where the complexes are negligible). The old linear
+        measure is ``relaxation_half_time``.
     samples : int
         Base sample size N; N·(d + 2) evaluations.
     log_outputs : bool

@@ -1,5 +1,6 @@
 """Panels of the explorer; each observes one shared `ExplorerState` and nothing else."""
 
+from .cascade import CascadePanel
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
 from .fitting import FittingPanel
@@ -10,6 +11,7 @@ from .table import ReadoutTable
 from .timecourse import TimeCoursePanel
 
 __all__ = [
+    "CascadePanel",
     "ControlsPanel",
     "FittingPanel",
     "KinaseRatioControl",
