@@ -152,3 +152,15 @@ def test_add_tab_extends_the_tab_area(explorer: Explorer) -> None:
     with pytest.raises(ValueError, match="widget"):
         explorer.add_tab("Not a widget", object())  # type: ignore[arg-type]
     assert explorer.tabs.titles == (*built_in, "Extra")
+
+
+def test_lazy_tabs_show_their_panel_when_first_selected(explorer: Explorer) -> None:
+    # Figure-bearing tabs wait for selection: a figure drawn in a hidden tab has no size.
+    titles = explorer.tabs.titles
+    for name, panel in (("Fit", explorer.fitting), ("Noise", explorer.noise), ("Cascade", explorer.cascade)):
+        index = titles.index(name)
+        assert explorer.tabs.children[index] is not panel
+        explorer.tabs.selected_index = index
+        assert explorer.tabs.children[index] is panel
+    explorer.tabs.selected_index = 0
+    assert explorer.tabs.children[titles.index("Fit")] is explorer.fitting

@@ -9,6 +9,7 @@ from typing import Any, Final
 import ipywidgets as w
 
 from ._support import BusyIndicator, MessageLine
+from .panels.cascade import CascadePanel
 from .panels.controls import ControlsPanel
 from .panels.curve import ResponseCurvePanel
 from .panels.fitting import FittingPanel
@@ -56,7 +57,7 @@ class Explorer(w.VBox):
     ----------
     state : ExplorerState
         The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
-    controls, curve, time_course, steepness, table, snapshots, fitting, noise : panels
+    controls, curve, time_course, steepness, table, snapshots, fitting, noise, cascade : panels
         The panels; each also works on its own with the same state.
     tabs : ipywidgets.Tab
         The tabbed area under the map (Readout, Snapshots, and any added with `add_tab`).
@@ -97,12 +98,16 @@ class Explorer(w.VBox):
             ),
         )
         self.tabs = w.Tab(layout=w.Layout(width="428px"))
+        self._lazy_tabs: dict[int, w.Widget] = {}
+        self.tabs.observe(self._on_tab_selected, names="selected_index")
         self.add_tab("Readout", self.table)
         self.add_tab("Snapshots", self.snapshots)
         self.fitting = FittingPanel(state, width="400px", height="250px")
-        self.add_tab("Fit", self.fitting)
+        self.add_tab("Fit", self.fitting, lazy=True)
         self.noise = NoisePanel(state, width="410px")
-        self.add_tab("Noise", self.noise)
+        self.add_tab("Noise", self.noise, lazy=True)
+        self.cascade = CascadePanel(state)
+        self.add_tab("Cascade", self.cascade, lazy=True)
         middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
         right = w.VBox([self.steepness, self.tabs], layout=w.Layout(width="435px"))
         header = w.HBox(
@@ -130,7 +135,7 @@ class Explorer(w.VBox):
         )
         self.add_class("hairtrigger-explorer")
 
-    def add_tab(self, title: str, panel: w.Widget, select: bool = False) -> int:
+    def add_tab(self, title: str, panel: w.Widget, select: bool = False, lazy: bool = False) -> int:
         """Add `panel` as a tab beside the readout table and the snapshots.
 
         The panel should observe `state` (build it with ``Panel(explorer.state)``) and not
@@ -145,6 +150,11 @@ class Explorer(w.VBox):
             The panel to show.
         select : bool
             Bring the new tab to the front.
+        lazy : bool
+            Show a placeholder until the tab is first selected. Use it for panels with
+            figures: a bqplot figure drawn inside a hidden tab has no size and draws
+            negative-width rectangles (browser console errors). The panel is built and
+            follows the state all along; only its view waits.
 
         Returns
         -------
@@ -162,19 +172,32 @@ class Explorer(w.VBox):
         if not isinstance(panel, w.Widget):
             msg = f"`panel` must be an ipywidgets widget; got {type(panel).__name__}"
             raise ValueError(msg)
-        if any(child is panel for child in self.tabs.children):
+        if any(child is panel for child in (*self.tabs.children, *self._lazy_tabs.values())):
             msg = f"`panel` is already a tab ({type(panel).__name__})"
             raise ValueError(msg)
         titles = (*self.tabs.titles, title.strip())
+        index = len(titles) - 1
+        shown = panel
+        if lazy and not select:
+            shown = w.HTML("<i>Loading…</i>")
+            self._lazy_tabs[index] = panel
         with self.tabs.hold_sync():
-            self.tabs.children = (*self.tabs.children, panel)
+            self.tabs.children = (*self.tabs.children, shown)
             self.tabs.titles = titles
             if select:
                 self.tabs.selected_index = len(titles) - 1
         return len(titles) - 1
 
+    def _on_tab_selected(self, change: dict[str, Any]) -> None:
+        panel = self._lazy_tabs.pop(change["new"], None) if change["new"] is not None else None
+        if panel is not None:
+            children = list(self.tabs.children)
+            children[change["new"]] = panel
+            self.tabs.children = tuple(children)
+
     def flush(self) -> None:
         """Run pending debounced work now (map recompute, download link)."""
         self.steepness.flush()
         self.noise.flush()
+        self.cascade.flush()
         self.snapshots.flush()
