@@ -171,3 +171,28 @@ class Explorer(w.VBox):
         """Run pending debounced work now (map recompute, download link)."""
         self.steepness.flush()
         self.snapshots.flush()
+
+    def write_report(
+        self, path: str | os.PathLike[str], *, include_pinned: bool = True, overwrite: bool = False
+    ) -> Path:
+        """Write the shareable, self-contained HTML report of the current point (and pins).
+
+        Parameters
+        ----------
+        path : path-like
+            Report file (``.html``), written atomically.
+        include_pinned : bool
+            Add the pinned snapshots, so that the report compares them with the current point.
+        overwrite : bool
+            Replace an existing file.
+
+        Returns
+        -------
+        pathlib.Path
+            The file written; see ``hairtrigger report`` for its contents. Needs matplotlib.
+        """
+        from .app import write_explorer_report
+
+        return Path(
+            write_explorer_report(self, path, include_pinned=include_pinned, overwrite=overwrite)
+        )
