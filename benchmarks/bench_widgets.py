@@ -71,6 +71,25 @@ def time_calls(function: Callable[[], Any], repeats: int, cpu: bool = False) -> 
     return out
 
 
+def time_interleaved(
+    first: Callable[[], Any], second: Callable[[], Any], repeats: int
+) -> tuple[list[float], list[float]]:
+    """Wall seconds per call of two functions, called alternately.
+
+    Alternating keeps a change in machine load (other processes on a shared machine) from
+    landing on one side of the ratio only.
+    """
+    first(), second()  # warm-up
+    a: list[float] = []
+    b: list[float] = []
+    for _ in range(repeats):
+        for function, out in ((first, a), (second, b)):
+            start = time.perf_counter()
+            function()
+            out.append(time.perf_counter() - start)
+    return a, b
+
+
 def bench_moves(
     explorer: Explorer, name: str, values: np.ndarray
 ) -> tuple[list[float], list[float], float]:
@@ -159,13 +178,13 @@ def main(argv: list[str] | None = None) -> int:
                 cycle = state.cycle
                 k = panel.current.k1 * cycle.substrate_total
                 reps = max(3, n // 8)
-                bare = time_calls(
+                bare, full = time_interleaved(
                     lambda: steepness_map(
                         cycle, k[None, :], k[:, None], model, state.readout, measure
                     ),
+                    panel._recompute_now,
                     reps,
                 )
-                full = time_calls(panel._recompute_now, reps)
                 # Messages and bytes of a refresh that changes the picture (a new outline).
                 _SENT.clear()
                 for target in (3.0, 5.0):

@@ -213,9 +213,9 @@ def stationary_distribution(chain: BirthDeathChain) -> StationaryDistribution:
     probabilities = weights / total
     log_probabilities = logw - math.log(total)
     n = np.arange(chain.molecules + 1, dtype=float)
-    mean = float(np.dot(n, probabilities))
+    mean = float(np.sum(n * probabilities))  # not np.dot: BLAS threads cost more here
     deviation = n - mean
-    variance = float(np.dot(deviation * deviation, probabilities))
+    variance = float(np.sum(deviation * deviation * probabilities))
     return StationaryDistribution(chain, probabilities, log_probabilities, mean, variance, mode)
 
 

@@ -11,6 +11,7 @@ import ipywidgets as w
 from ._support import BusyIndicator, MessageLine
 from .panels.controls import ControlsPanel
 from .panels.curve import ResponseCurvePanel
+from .panels.fitting import FittingPanel
 from .panels.snapshots import SnapshotPanel
 from .panels.steepness import SteepnessMapPanel
 from .panels.table import ReadoutTable
@@ -54,7 +55,7 @@ class Explorer(w.VBox):
     ----------
     state : ExplorerState
         The shared state; set parameters on it from code (``explorer.state.K1 = 0.01``).
-    controls, curve, time_course, steepness, table, snapshots : panels
+    controls, curve, time_course, steepness, table, snapshots, fitting : panels
         The panels; each also works on its own with the same state.
     tabs : ipywidgets.Tab
         The tabbed area under the map (Readout, Snapshots, and any added with `add_tab`).
@@ -97,6 +98,8 @@ class Explorer(w.VBox):
         self.tabs = w.Tab(layout=w.Layout(width="428px"))
         self.add_tab("Readout", self.table)
         self.add_tab("Snapshots", self.snapshots)
+        self.fitting = FittingPanel(state, width="400px", height="250px")
+        self.add_tab("Fit", self.fitting)
         middle = w.VBox([self.curve, self.time_course], layout=w.Layout(width="465px"))
         right = w.VBox([self.steepness, self.tabs], layout=w.Layout(width="435px"))
         header = w.HBox(

@@ -2,6 +2,8 @@
 
 from .controls import ControlsPanel, KinaseRatioControl, LogControl
 from .curve import ResponseCurvePanel
+from .fitting import FittingPanel
+from .noise import NoisePanel
 from .snapshots import SnapshotPanel
 from .steepness import SteepnessMapPanel
 from .table import ReadoutTable
@@ -9,8 +11,10 @@ from .timecourse import TimeCoursePanel
 
 __all__ = [
     "ControlsPanel",
+    "FittingPanel",
     "KinaseRatioControl",
     "LogControl",
+    "NoisePanel",
     "ReadoutTable",
     "ResponseCurvePanel",
     "SnapshotPanel",

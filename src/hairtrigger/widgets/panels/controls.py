@@ -33,6 +33,13 @@ SLIDER_STEP = 0.01
 
 DESCRIPTION_WIDTH = "92px"
 
+#: Readout names short enough for the dropdown in the 330-px control column (the panels'
+#: legends and the table caption use the longer `READOUT_LABELS`).
+READOUT_CHOICES: dict[str, str] = {
+    "free_modified": "free modified B/W",
+    "total_modified": "total modified (B + C2)/W",
+}
+
 
 def format_value(value: float) -> str:
     """Format a parameter for an entry box (4 significant digits, no trailing zeros)."""
@@ -294,9 +301,11 @@ class ControlsPanel(w.VBox):
         self.readout_control = ChoiceControl(
             state,
             "readout",
-            [(READOUT_LABELS[r], r) for r in READOUTS],
+            [(READOUT_CHOICES.get(r, READOUT_LABELS[r]), r) for r in READOUTS],
             "readout",
-            "what the assay measures; under sequestration the two differ",
+            "what the assay measures: free modified substrate B, or all modified substrate "
+            "B + C2 including the part bound to the phosphatase (as measured after lysis); "
+            "under sequestration the two differ",
         )
         self.controls: dict[str, LogControl] = {}
         for spec in PARAMETERS:
