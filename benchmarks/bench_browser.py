@@ -240,16 +240,28 @@ def choose_resolution(page: Any, cells: int) -> None:
     select = page.locator(".hairtrigger-map select").nth(1)
     label = f"{cells}²"
     current = select.evaluate("s => s.options[s.selectedIndex].text")
-    if current == label:
-        return
     before = page.locator(".hairtrigger-map svg.svg-figure image").first.get_attribute("href")
-    select.select_option(label=label)
-    page.wait_for_function(
-        "old => document.querySelector('.hairtrigger-map svg.svg-figure image')"
-        ".getAttribute('href') !== old",
-        arg=before,
-        timeout=30000,
+    if current != label:
+        select.select_option(label=label)
+        page.wait_for_function(
+            "old => document.querySelector('.hairtrigger-map svg.svg-figure image')"
+            ".getAttribute('href') !== old",
+            arg=before,
+            timeout=120000,
+        )
+    # The map is one pre-coloured PNG of cells x cells pixels: check the size really changed.
+    size = page.evaluate(
+        """async () => {
+            const el = document.querySelector('.hairtrigger-map svg.svg-figure image');
+            const img = new Image();
+            img.src = el.getAttribute('href');
+            await img.decode();
+            return [img.naturalWidth, img.naturalHeight];
+        }"""
     )
+    if size != [cells, cells]:
+        raise RuntimeError(f"map image is {size[0]}x{size[1]} pixels, expected {cells}x{cells}")
+    print(f"map image at {label}: {size[0]}x{size[1]} pixels", flush=True)
 
 
 def bench_explorer(b: Any, moves: int, map_moves: int) -> list[dict[str, Any]]:

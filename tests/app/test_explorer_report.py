@@ -24,6 +24,20 @@ def test_report_of_the_explorer_embeds_current_point_and_pins(tmp_path: Path) ->
     assert dumps_snapshot(loaded[1]) == dumps_snapshot(explorer.state.pinned[0])
 
 
+def test_explorer_write_report_method_without_pins_and_refusing_to_overwrite(
+    tmp_path: Path,
+) -> None:
+    explorer = Explorer(load_example("scarce_enzyme_switch"))
+    explorer.snapshots.pin()
+    explorer.state.K2 = 0.3
+    out = explorer.write_report(tmp_path / "r.html", include_pinned=False)
+    loaded = extract_snapshots(out.read_text(encoding="utf-8"))
+    assert [s.cycle.K2 for s in loaded] == [pytest.approx(0.3)]
+    with pytest.raises(FileExistsError):
+        explorer.write_report(out)
+    assert len(extract_snapshots(explorer.write_report(out, overwrite=True).read_text())) == 2
+
+
 def test_app_starts_from_the_environment_snapshot(tmp_path: Path, monkeypatch) -> None:
     start = load_example("sequestration_limited")
     path = tmp_path / "s.json"

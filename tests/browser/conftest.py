@@ -138,6 +138,36 @@ def offline_page(chromium_browser: Any) -> Iterator[tuple[Any, PageLog]]:
         context.close()
 
 
+@pytest.fixture
+def live_page(chromium_browser: Any) -> Iterator[Any]:
+    """Open a served page: ``live_page(url)`` returns ``(page, log)``, closed after the test.
+
+    The page is reached once its response arrives; wait for its content with page conditions.
+    """
+    contexts: list[Any] = []
+
+    def open_page(url: str) -> tuple[Any, PageLog]:
+        context = chromium_browser.new_context(
+            viewport={"width": 1300, "height": 1000}, accept_downloads=True
+        )
+        contexts.append(context)
+        context.set_default_timeout(WAIT_MS)
+        log = PageLog()
+        page = context.new_page()
+        page.on("request", lambda request: log.requests.append(request.url))
+        page.on("requestfailed", lambda request: log.blocked.append(request.url))
+        page.on("console", lambda message: log.console.append((message.type, message.text)))
+        page.on("pageerror", lambda error: log.page_errors.append(str(error)))
+        page.goto(url, timeout=PAGE_READY_MS, wait_until="commit")
+        return page, log
+
+    try:
+        yield open_page
+    finally:
+        for context in contexts:
+            context.close()
+
+
 # --- the app (hairtrigger app, Voila on 127.0.0.1) ----------------------------------------------
 
 #: Console errors that are expected offline: Voila's template asks a CDN for Font Awesome.

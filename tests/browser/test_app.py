@@ -335,3 +335,36 @@ def test_malformed_upload_shows_an_error_and_changes_nothing(
     assert table_text(page) == table
     assert page.evaluate(JS_READOUT_D) == curve
     assert app_errors(page) == ""
+
+
+def test_every_tab_opens_with_its_figures_drawn(app_page: tuple[Any, Any], artifacts: Path) -> None:
+    page, log = app_page
+    tabs = page.locator(".hairtrigger-explorer .lm-TabBar-tab")
+    titles = [tabs.nth(i).inner_text().strip() for i in range(tabs.count())]
+    assert {"Readout", "Snapshots"} <= set(titles)
+    for i, title in enumerate(titles):
+        tabs.nth(i).click()
+        # the chosen pane is shown, the others are not, and the figures in it have real size
+        page.wait_for_function(
+            """i => {
+                const panes = [...document.querySelectorAll(
+                    '.hairtrigger-explorer .widget-tab-contents > .lm-Widget')];
+                const shown = panes.filter(p => getComputedStyle(p).visibility !== 'hidden'
+                                                && !p.classList.contains('lm-mod-hidden'));
+                return shown.length === 1 && shown[0] === panes[i]
+                       && shown[0].getBoundingClientRect().height > 50;
+            }""",
+            arg=i,
+        )
+        sizes = page.evaluate(
+            """i => [...document.querySelectorAll(
+                    '.hairtrigger-explorer .widget-tab-contents > .lm-Widget')][i]
+                    .querySelectorAll('svg.svg-figure')
+                    .values().map(s => [s.getBoundingClientRect().width,
+                                        s.getBoundingClientRect().height]).toArray()""",
+            arg=i,
+        )
+        assert all(w > 100 and h > 100 for w, h in sizes), (title, sizes)
+        screenshot(page, artifacts, f"tab-{title.lower().replace(' ', '-')}")
+    assert log.errors(allowed=ALLOWED_CONSOLE) == []
+    assert app_errors(page) == ""

@@ -38,6 +38,14 @@ _CSS: Final[str] = """
 .hairtrigger-explorer .noUi-handle:focus-visible {
   outline: 2px solid #0072B2; outline-offset: 1px;
 }
+/* A panel in a tab that is not shown stays laid out (hidden, out of the flow) instead of
+   display:none, so its figures get their real size: a figure first drawn at zero width gets
+   a negative plot area (console errors "<rect> attribute width: A negative value") and can
+   show squashed when its tab opens. */
+.hairtrigger-explorer .widget-tab-contents > .lm-Widget.lm-mod-hidden {
+  display: block !important; visibility: hidden; position: absolute; left: 0; top: 0;
+  width: 100%; pointer-events: none;
+}
 </style>
 """
 
@@ -201,3 +209,28 @@ class Explorer(w.VBox):
         self.noise.flush()
         self.cascade.flush()
         self.snapshots.flush()
+
+    def write_report(
+        self, path: str | os.PathLike[str], *, include_pinned: bool = True, overwrite: bool = False
+    ) -> Path:
+        """Write the shareable, self-contained HTML report of the current point (and pins).
+
+        Parameters
+        ----------
+        path : path-like
+            Report file (``.html``), written atomically.
+        include_pinned : bool
+            Add the pinned snapshots, so that the report compares them with the current point.
+        overwrite : bool
+            Replace an existing file.
+
+        Returns
+        -------
+        pathlib.Path
+            The file written; see ``hairtrigger report`` for its contents. Needs matplotlib.
+        """
+        from .app import write_explorer_report
+
+        return Path(
+            write_explorer_report(self, path, include_pinned=include_pinned, overwrite=overwrite)
+        )
