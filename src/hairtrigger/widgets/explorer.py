@@ -38,14 +38,6 @@ _CSS: Final[str] = """
 .hairtrigger-explorer .noUi-handle:focus-visible {
   outline: 2px solid #0072B2; outline-offset: 1px;
 }
-/* A panel in a tab that is not shown stays laid out (hidden, out of the flow) instead of
-   display:none, so its figures get their real size: a figure first drawn at zero width gets
-   a negative plot area (console errors "<rect> attribute width: A negative value") and can
-   show squashed when its tab opens. */
-.hairtrigger-explorer .widget-tab-contents > .lm-Widget.lm-mod-hidden {
-  display: block !important; visibility: hidden; position: absolute; left: 0; top: 0;
-  width: 100%; pointer-events: none;
-}
 </style>
 """
 
