@@ -7,9 +7,11 @@ place instead of vanishing, slow work announced, expensive redraws coalesced).
 from __future__ import annotations
 
 import asyncio
+import base64
 import functools
 import html
 import logging
+import re
 import threading
 import traceback
 from collections.abc import Callable, Iterator
@@ -273,3 +275,23 @@ class BusyIndicator(w.HTML):
                     self._shown_job = None
                     self._refresh()
                 self._wake.notify_all()
+
+
+def file_stem(title: str, default: str) -> str:
+    """A safe file name stem from a title (letters, digits, ``._-``), `default` if empty."""
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", title.strip()).strip("-._")
+    return (stem or default)[:60]
+
+
+def json_download_link(text: str, file_name: str, label: str, tooltip: str) -> str:
+    """HTML for a browser download of JSON `text` as a ``data:`` link.
+
+    Voila refuses to serve files from the kernel's folder, so downloads carry their content.
+    """
+    payload = base64.b64encode(text.encode("utf-8")).decode("ascii")
+    name = html.escape(file_name, quote=True)
+    return (
+        f'<a download="{name}" href="data:application/json;charset=utf-8;base64,{payload}" '
+        f'style="text-decoration:underline" title="{html.escape(tooltip, quote=True)}">'
+        f"{html.escape(label)}</a>"
+    )

@@ -21,10 +21,8 @@ The cascade lives in this panel (`CascadePanel.cascade`); the explorer's cycle i
 
 from __future__ import annotations
 
-import base64
 import html
 import math
-import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -53,7 +51,8 @@ from ...io.cascade_file import (
     loads_cascade,
     save_cascade,
 )
-from .._support import BusyIndicator, Debouncer, MessageLine, reporting
+from .._support import BusyIndicator, Debouncer, MessageLine, json_download_link, reporting
+from .._support import file_stem as _file_stem
 from ..colors import OKABE_ITO
 from ..state import ExplorerState
 from ._figure import axis, figure, log_ticks
@@ -148,18 +147,16 @@ def compact_number(value: float, digits: int = 3) -> str:
 
 def file_stem(title: str) -> str:
     """A safe file name stem from a cascade title."""
-    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", title.strip()).strip("-._")
-    return (stem or "hairtrigger-cascade")[:60]
+    return _file_stem(title, "hairtrigger-cascade")
 
 
 def download_link(cascade: Cascade, label: str = "Download cascade (.json)") -> str:
     """HTML for a browser download of `cascade` as a ``data:`` link (works under Voila)."""
-    payload = base64.b64encode(dumps_cascade(cascade).encode("utf-8")).decode("ascii")
-    name = html.escape(file_stem(cascade.title) + ".json", quote=True)
-    return (
-        f'<a download="{name}" href="data:application/json;charset=utf-8;base64,{payload}" '
-        f'style="text-decoration:underline" title="save the cascade as a file">'
-        f"{html.escape(label)}</a>"
+    return json_download_link(
+        dumps_cascade(cascade),
+        file_stem(cascade.title) + ".json",
+        label,
+        "save the cascade as a file",
     )
 
 

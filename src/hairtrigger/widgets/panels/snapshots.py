@@ -9,9 +9,7 @@ nothing. Pinned snapshots are drawn on the response curve and can be compared si
 
 from __future__ import annotations
 
-import base64
 import html
-import re
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, Final
@@ -22,7 +20,8 @@ from traitlets import Instance
 from ...core import CYCLE_KEYS, CYCLE_UNITS, evaluate
 from ...io.snapshot import Snapshot, SnapshotError, dumps_snapshot, load_snapshot, loads_snapshot
 from ...io.snapshot import save_snapshot as write_snapshot
-from .._support import Debouncer, MessageLine, reporting
+from .._support import Debouncer, MessageLine, json_download_link, reporting
+from .._support import file_stem as _file_stem
 from ..state import ExplorerState
 from .table import format_number
 
@@ -48,18 +47,16 @@ COMPARED_RESULTS: Final[tuple[tuple[str, str, bool], ...]] = (
 
 def file_stem(title: str) -> str:
     """A safe file name stem from a snapshot title."""
-    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", title.strip()).strip("-._")
-    return (stem or "hairtrigger-snapshot")[:60]
+    return _file_stem(title, "hairtrigger-snapshot")
 
 
 def download_link(snapshot: Snapshot, label: str = "Download snapshot (.json)") -> str:
     """HTML for a browser download of `snapshot` as a ``data:`` link (works under Voila)."""
-    payload = base64.b64encode(dumps_snapshot(snapshot).encode("utf-8")).decode("ascii")
-    name = html.escape(file_stem(snapshot.title) + ".json", quote=True)
-    return (
-        f'<a download="{name}" href="data:application/json;charset=utf-8;base64,{payload}" '
-        f'style="text-decoration:underline" title="save the current exploration as a file">'
-        f"{html.escape(label)}</a>"
+    return json_download_link(
+        dumps_snapshot(snapshot),
+        file_stem(snapshot.title) + ".json",
+        label,
+        "save the current exploration as a file",
     )
 
 
