@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import roadrunner
-from _sbml_helpers import make_cycle
 
+from _cycles import make_cycle
 from hairtrigger.core.steady import steady_state
 from hairtrigger.core.timecourse import time_course
 from hairtrigger.io.sbml import cycle_to_sbml

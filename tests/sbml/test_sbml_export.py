@@ -6,8 +6,8 @@ from pathlib import Path
 
 import libsbml
 import pytest
-from _sbml_helpers import make_cycle
 
+from _cycles import make_cycle
 from hairtrigger.core.params import CYCLE_KEYS
 from hairtrigger.io.sbml import (
     consistency_problems,

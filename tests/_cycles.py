@@ -1,4 +1,4 @@
-"""Invented cycles for the SBML tests."""
+"""An invented reference cycle shared by the time-course and SBML tests."""
 
 from __future__ import annotations
 
